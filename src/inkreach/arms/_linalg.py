@@ -1,0 +1,110 @@
+"""Small closed forms for stacks of 2 x 2 matrices."""
+
+import numpy as np
+
+__all__ = ["inverse_condition", "circle_intersection", "wrap_into"]
+
+
+def inverse_condition(J):
+    """Inverse condition number ``sigma_min / sigma_max`` of 2 x 2 matrices.
+
+    Parameters
+    ----------
+    J : ndarray, shape (..., 2, 2)
+        Matrices. The ratio is scale invariant, so ``J`` may be multiplied by
+        any non-zero scalar per matrix (for example a determinant, to keep a
+        Jacobian finite near a singularity).
+
+    Returns
+    -------
+    ndarray, shape (...)
+        Values in [0, 1]; NaN where ``J`` has a NaN, 0 for the zero matrix.
+
+    Notes
+    -----
+    With ``S = ||J||_F^2`` and ``D = |det J|`` the singular values satisfy
+    ``sigma_max^2 = (S + sqrt(S^2 - 4 D^2)) / 2`` and
+    ``sigma_min sigma_max = D``, so ``sigma_min / sigma_max = 2 D / (S +
+    sqrt(S^2 - 4 D^2))``, which has no cancellation.
+
+    References
+    ----------
+    .. [1] G. H. Golub and C. F. Van Loan, *Matrix Computations*, 4th ed.,
+       Johns Hopkins, 2013, section 2.4 (singular values).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> float(inverse_condition(np.diag([2.0, 1.0])))
+    0.5
+    >>> float(inverse_condition(np.array([[1.0, 1.0], [1.0, 1.0]])))
+    0.0
+    """
+    J = np.asarray(J, dtype=float)
+    a, b = J[..., 0, 0], J[..., 0, 1]
+    c, d = J[..., 1, 0], J[..., 1, 1]
+    S = a * a + b * b + c * c + d * d
+    D = np.abs(a * d - b * c)
+    disc = np.sqrt(np.maximum(S * S - 4.0 * D * D, 0.0))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        r = np.where(S > 0, 2.0 * D / (S + disc), 0.0)
+    return np.clip(r, 0.0, 1.0, where=np.isfinite(r), out=r)
+
+
+def circle_intersection(c0, r0, c1, r1, side):
+    """Intersection of two circles on a chosen side of the centre line.
+
+    Parameters
+    ----------
+    c0, c1 : ndarray, shape (N, 2)
+        Centres.
+    r0, r1 : float or ndarray, shape (N,)
+        Radii.
+    side : float or ndarray, shape (N,)
+        +1 for the point to the left of the directed line ``c0 -> c1``
+        (positive cross product), -1 for the point to its right.
+
+    Returns
+    -------
+    ndarray, shape (N, 2)
+        The intersection points; NaN where the circles do not meet.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> circle_intersection(np.array([[0.0, 0.0]]), 5.0,
+    ...                     np.array([[6.0, 0.0]]), 5.0, 1.0)
+    array([[3., 4.]])
+    """
+    c0 = np.asarray(c0, dtype=float)
+    c1 = np.asarray(c1, dtype=float)
+    delta = c1 - c0
+    d2 = np.einsum("ij,ij->i", delta, delta)
+    d = np.sqrt(d2)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        a = (r0 * r0 - r1 * r1 + d2) / (2.0 * d)
+        h2 = r0 * r0 - a * a
+        bad = (d == 0) | (h2 < 0) | ~np.isfinite(h2)
+        h = np.sqrt(np.where(bad, np.nan, np.maximum(h2, 0.0)))
+        u = delta / d[:, None]
+    n = np.stack([-u[:, 1], u[:, 0]], axis=1)
+    p = c0 + a[:, None] * u + (np.asarray(side, dtype=float) * h)[..., None] * n
+    p[bad] = np.nan
+    return p
+
+
+def wrap_into(theta, lo):
+    """Wrap angles into ``[lo, lo + 2 pi)``.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> round(float(wrap_into(-np.pi / 2, 0.0)), 6)
+    4.712389
+    """
+    return lo + np.mod(np.asarray(theta, dtype=float) - lo, 2.0 * np.pi)
+
+
+def cross2(a, b):
+    """z component of the cross product of stacks of 2-vectors."""
+    return a[..., 0] * b[..., 1] - a[..., 1] * b[..., 0]

@@ -1,0 +1,236 @@
+"""Five-bar (5R) parallel arm driven by two base motors."""
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ._base import Arm
+from ._linalg import circle_intersection, cross2, wrap_into
+
+__all__ = ["FiveBar"]
+
+
+@dataclass(frozen=True, eq=False)
+class FiveBar(Arm):
+    """A planar five-bar linkage with a pen at (or beyond) the distal joint.
+
+    Conventions (millimetres, radians, x right, y away from the motors):
+    ``elbow_L = left_motor + left_upper (cos t1, sin t1)`` and
+    ``elbow_R = right_motor + right_upper (cos t2, sin t2)``, both angles
+    absolute and counter-clockwise from +x. The pen joint P is the meeting
+    point of circle(elbow_L, left_lower) and circle(elbow_R, right_lower)
+    to the left of the directed line elbow_L -> elbow_R. The pen sits
+    ``pen_extension`` mm beyond P along elbow_L -> P. With ``elbows="out"``
+    the left elbow lies left of the line left_motor -> P and the right
+    elbow right of right_motor -> P; ``"in"`` is the opposite.
+
+    Parameters
+    ----------
+    left_motor, right_motor : tuple of float
+        Motor axis positions, mm.
+    left_upper, right_upper : float
+        Driven (proximal) link lengths, mm.
+    left_lower, right_lower : float
+        Distal link lengths, elbow to pen joint, mm.
+    pen_extension : float
+        Distance of the pen beyond the pen joint, along the left distal link.
+    elbows : {"out", "in"}
+        Working mode of the two legs.
+
+    References
+    ----------
+    .. [1] C. Gosselin and J. Angeles, "Singularity analysis of closed-loop
+       kinematic chains", IEEE Trans. Robotics and Automation 6(3), 1990.
+    .. [2] X.-J. Liu, J. Wang and G. Pritschow, "Kinematics, singularity and
+       workspace of planar 5R symmetrical parallel mechanisms", Mechanism
+       and Machine Theory 41(2), 2006.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> arm = FiveBar(left_motor=(-30, 0), right_motor=(30, 0),
+    ...               left_upper=90, right_upper=90,
+    ...               left_lower=120, right_lower=120)
+    >>> q = arm.ik(np.array([[0.0, 150.0]]))
+    >>> np.allclose(arm.fk(q), [[0.0, 150.0]])
+    True
+    """
+
+    left_motor: tuple = (-30.0, 0.0)
+    right_motor: tuple = (30.0, 0.0)
+    left_upper: float = 90.0
+    right_upper: float = 90.0
+    left_lower: float = 120.0
+    right_lower: float = 120.0
+    pen_extension: float = 0.0
+    elbows: str = "out"
+
+    kind = "five-bar"
+
+    # --- geometry helpers -------------------------------------------------
+    def _motors(self):
+        return np.asarray(self.left_motor, float), np.asarray(self.right_motor, float)
+
+    def elbows_at(self, q):
+        """Elbow positions (left, right) for joint angles ``q``, each (N, 2)."""
+        q = np.atleast_2d(np.asarray(q, dtype=float))
+        mL, mR = self._motors()
+        eL = mL + self.left_upper * np.stack([np.cos(q[:, 0]), np.sin(q[:, 0])], 1)
+        eR = mR + self.right_upper * np.stack([np.cos(q[:, 1]), np.sin(q[:, 1])], 1)
+        return eL, eR
+
+    def joints(self, q):
+        """Every joint of the linkage for drawing it.
+
+        Returns
+        -------
+        dict of ndarray, each (N, 2)
+            ``left_motor``, ``left_elbow``, ``pen_joint``, ``right_elbow``,
+            ``right_motor`` and ``pen``.
+        """
+        q = np.atleast_2d(np.asarray(q, dtype=float))
+        eL, eR = self.elbows_at(q)
+        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        mL, mR = self._motors()
+        n = len(q)
+        return {
+            "left_motor": np.broadcast_to(mL, (n, 2)),
+            "left_elbow": eL,
+            "pen_joint": P,
+            "right_elbow": eR,
+            "right_motor": np.broadcast_to(mR, (n, 2)),
+            "pen": self._pen_from(eL, P),
+        }
+
+    def _pen_from(self, eL, P):
+        if self.pen_extension == 0:
+            return P
+        return P + (self.pen_extension / self.left_lower) * (P - eL)
+
+    # --- kinematics -------------------------------------------------------
+    def fk(self, q):
+        """Pen position for joint angles.
+
+        Parameters
+        ----------
+        q : array_like, shape (N, 2) or (2,)
+            ``(theta1, theta2)``, radians.
+
+        Returns
+        -------
+        ndarray, shape (N, 2) or (2,)
+            Pen position in mm; NaN where the loop cannot close.
+        """
+        q = np.asarray(q, dtype=float)
+        single = q.ndim == 1
+        eL, eR = self.elbows_at(q)
+        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        X = self._pen_from(eL, P)
+        return X[0] if single else X
+
+    def ik(self, p):
+        """Joint angles that put the pen at ``p`` in the configured mode.
+
+        Parameters
+        ----------
+        p : array_like, shape (N, 2) or (2,)
+            Pen positions, mm.
+
+        Returns
+        -------
+        ndarray, shape (N, 2) or (2,)
+            ``(theta1, theta2)`` in radians, each wrapped into
+            ``[lower limit, lower limit + 2 pi)``; NaN where a leg cannot
+            reach or where the linkage would assemble the other way (its
+            forward kinematics would then give a different point).
+        """
+        p = np.asarray(p, dtype=float)
+        single = p.ndim == 1
+        X = np.atleast_2d(p)
+        mL, mR = self._motors()
+        sgn = 1.0 if self.elbows == "out" else -1.0
+        n = len(X)
+        # Left leg: motor -> elbow (upper) -> pen (lower + extension), a
+        # two-link chain; its elbow lies left of motor -> pen for "out".
+        reach_L = self.left_lower + self.pen_extension
+        mLn = np.broadcast_to(mL, (n, 2))
+        eL = circle_intersection(mLn, self.left_upper, X, reach_L, sgn)
+        P = eL + (self.left_lower / reach_L) * (X - eL)
+        mRn = np.broadcast_to(mR, (n, 2))
+        eR = circle_intersection(mRn, self.right_upper, P, self.right_lower, -sgn)
+        with np.errstate(invalid="ignore"):
+            # Assembly check: P must lie left of elbow_L -> elbow_R.
+            ok = cross2(eR - eL, P - eL) > 0
+        t1 = np.arctan2(eL[:, 1] - mL[1], eL[:, 0] - mL[0])
+        t2 = np.arctan2(eR[:, 1] - mR[1], eR[:, 0] - mR[0])
+        q = np.stack([wrap_into(t1, self.limits.theta1[0]),
+                      wrap_into(t2, self.limits.theta2[0])], axis=1)
+        q[~ok] = np.nan
+        return q[0] if single else q
+
+    def jacobian(self, q):
+        """Analytic Jacobian d(pen)/d(theta), mm per radian.
+
+        Obtained by differentiating the two loop-closure constraints
+        ``|P - elbow_L|^2 = left_lower^2`` and ``|P - elbow_R|^2 =
+        right_lower^2``: ``A dP = B dtheta`` with ``A`` the rows
+        ``(P - elbow_i)^T`` and ``B`` diagonal. ``det A = 0`` is the
+        type-II (parallel) singularity, a zero diagonal of ``B`` the type-I
+        (serial) one.
+
+        Parameters
+        ----------
+        q : array_like, shape (N, 2) or (2,)
+
+        Returns
+        -------
+        ndarray, shape (N, 2, 2) or (2, 2)
+            Infinite entries at an exact type-II singularity, NaN where the
+            loop cannot close.
+
+        References
+        ----------
+        .. [1] C. Gosselin and J. Angeles, "Singularity analysis of
+           closed-loop kinematic chains", IEEE Trans. Robotics and
+           Automation 6(3), 1990.
+        """
+        q = np.asarray(q, dtype=float)
+        single = q.ndim == 1
+        K, detA = self._jacobian_parts(np.atleast_2d(q))
+        with np.errstate(invalid="ignore", divide="ignore"):
+            J = K / detA[:, None, None]
+        return J[0] if single else J
+
+    def _jacobian_parts(self, q):
+        eL, eR = self.elbows_at(q)
+        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        a = P - eL
+        b = P - eR
+        dL = self.left_upper * np.stack([-np.sin(q[:, 0]), np.cos(q[:, 0])], 1)
+        dR = self.right_upper * np.stack([-np.sin(q[:, 1]), np.cos(q[:, 1])], 1)
+        bL = np.einsum("ij,ij->i", a, dL)
+        bR = np.einsum("ij,ij->i", b, dR)
+        detA = cross2(a, b)
+        # adj(A) = [[b_y, -a_y], [-b_x, a_x]]; dP = adj(A) B / det A
+        K = np.empty((len(q), 2, 2))
+        K[:, 0, 0] = b[:, 1] * bL
+        K[:, 0, 1] = -a[:, 1] * bR
+        K[:, 1, 0] = -b[:, 0] * bL
+        K[:, 1, 1] = a[:, 0] * bR
+        if self.pen_extension:
+            k = self.pen_extension / self.left_lower
+            K *= 1.0 + k
+            K[:, :, 0] -= k * dL * detA[:, None]
+        return K, detA
+
+    def _jacobian_scaled(self, q):
+        K, _ = self._jacobian_parts(q)
+        return K
+
+    def reach_box(self):
+        mL, mR = self._motors()
+        rL = self.left_upper + self.left_lower + self.pen_extension
+        rR = self.right_upper + self.right_lower + self.pen_extension
+        lo = np.minimum(mL - rL, mR - rR)
+        hi = np.maximum(mL + rL, mR + rR)
+        return float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])
