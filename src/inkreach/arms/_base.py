@@ -71,6 +71,7 @@ class Arm:
     limits: Limits = field(default_factory=Limits)
     pen: PenSpec = field(default_factory=PenSpec)
     home_deg: tuple = None
+    hardware: dict = None
 
     kind = "arm"
 
