@@ -1,0 +1,3 @@
+from .stream import JointStream
+
+__all__ = ["JointStream"]
