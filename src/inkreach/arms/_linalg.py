@@ -22,10 +22,10 @@ def inverse_condition(J):
 
     Notes
     -----
-    With ``S = ||J||_F^2`` and ``D = |det J|`` the singular values satisfy
-    ``sigma_max^2 = (S + sqrt(S^2 - 4 D^2)) / 2`` and
-    ``sigma_min sigma_max = D``, so ``sigma_min / sigma_max = 2 D / (S +
-    sqrt(S^2 - 4 D^2))``, which has no cancellation.
+    For ``J = [[a, b], [c, d]]`` the singular values are ``(p + q) / 2`` and
+    ``|p - q| / 2`` with ``p = hypot(a + d, b - c)`` and ``q = hypot(a - d,
+    b + c)``, so the ratio is ``|p - q| / (p + q)``: no square root of a
+    difference, hence accurate near 1 as well as near 0.
 
     References
     ----------
@@ -43,12 +43,12 @@ def inverse_condition(J):
     J = np.asarray(J, dtype=float)
     a, b = J[..., 0, 0], J[..., 0, 1]
     c, d = J[..., 1, 0], J[..., 1, 1]
-    S = a * a + b * b + c * c + d * d
-    D = np.abs(a * d - b * c)
-    disc = np.sqrt(np.maximum(S * S - 4.0 * D * D, 0.0))
+    p = np.hypot(a + d, b - c)
+    q = np.hypot(a - d, b + c)
+    s = p + q
     with np.errstate(invalid="ignore", divide="ignore"):
-        r = np.where(S > 0, 2.0 * D / (S + disc), 0.0)
-    return np.clip(r, 0.0, 1.0, where=np.isfinite(r), out=r)
+        r = np.where(s > 0, np.abs(p - q) / s, 0.0)
+    return r
 
 
 def circle_intersection(c0, r0, c1, r1, side):

@@ -30,7 +30,7 @@ _SERIAL_OPTIONAL = {"elbow": "ccw"}
 _LIMIT_KEYS = ("theta1_deg", "theta2_deg", "max_speed_deg_s", "max_accel_deg_s2",
                "min_conditioning")
 _TOP_KEYS = {"name", "kind", "geometry", "limits", "pen", "home", "servo", "stepper",
-             "description"}
+             "calibration", "description"}
 
 
 def _fail(source, msg):
@@ -196,7 +196,15 @@ def parse_arm(data, source="<arm>"):
         _check_keys(source, data["home"], "home", ("theta_deg",), ())
         home = _pair(source, "[home] theta_deg", data["home"]["theta_deg"])
 
-    hardware = {k: data[k] for k in ("servo", "stepper") if k in data}
+    if "calibration" in data:
+        cal = data["calibration"]
+        _check_keys(source, cal, "calibration", (), ("offset_deg", "scale"))
+        off = _pair(source, "[calibration] offset_deg", cal.get("offset_deg", [0.0, 0.0]))
+        sc = _pair(source, "[calibration] scale", cal.get("scale", [1.0, 1.0]))
+        if min(sc) <= 0:
+            _fail(source, "[calibration] scale must be positive for both motors; "
+                  "re-run the calibration fit")
+    hardware = {k: data[k] for k in ("servo", "stepper", "calibration") if k in data}
     arm = cls(name=name, limits=limits, pen=PenSpec(width, lift), home_deg=home,
               hardware=hardware, **kw)
     if not _closes_somewhere(arm):
