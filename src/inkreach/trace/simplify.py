@@ -1,7 +1,7 @@
 """Polyline lengths and Ramer-Douglas-Peucker simplification."""
 
 import numpy as np
-from skimage.measure import approximate_polygon
+import cv2
 
 __all__ = ["simplify_polylines", "polyline_lengths"]
 
@@ -71,6 +71,11 @@ def simplify_polylines(polylines, tolerance):
     for p in polylines:
         p = np.asarray(p, dtype=float).reshape(-1, 2)
         if tolerance > 0 and len(p) > 2:
-            p = approximate_polygon(p, tolerance)
+            # OpenCV's approxPolyDP is the same recursive algorithm, in C;
+            # as an open curve it keeps both end points.
+            q = cv2.approxPolyDP(p.astype(np.float32).reshape(-1, 1, 2), float(tolerance), False)
+            q = q.reshape(-1, 2).astype(float)
+            q[0], q[-1] = p[0], p[-1]   # exact ends, not their float32 copies
+            p = q
         out.append(np.array(p, dtype=float))
     return out
