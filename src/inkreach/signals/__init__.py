@@ -1,0 +1,13 @@
+"""Motor signals: joint angles to servo pulse widths or stepper step counts."""
+
+from .quantised import quantised_angles
+from .servo import ServoCalibration, ServoSignals, servo_calibration_from_arm, servo_pulses
+from .stepper import (PenError, StepperConfig, StepperSignals, check_step_rate,
+                      reached_angles, stepper_config_from_arm, stepper_steps,
+                      worst_pen_error_mm)
+
+__all__ = [
+    "ServoCalibration", "ServoSignals", "servo_pulses", "servo_calibration_from_arm",
+    "StepperConfig", "StepperSignals", "PenError", "stepper_steps", "stepper_config_from_arm",
+    "check_step_rate", "reached_angles", "worst_pen_error_mm", "quantised_angles",
+]

@@ -1,0 +1,51 @@
+"""The angles the motors will really reach, for a faithful simulated preview."""
+
+import numpy as np
+
+from ..errors import InkreachError
+from .servo import ServoSignals
+from .stepper import StepperSignals, reached_angles
+
+__all__ = ["quantised_angles"]
+
+
+def quantised_angles(stream, signals):
+    """Joint angles the motors reach when driven by the given signals.
+
+    Parameters
+    ----------
+    stream : JointStream
+        The stream the signals were made from.
+    signals : StepperSignals or ServoSignals
+        Stepper positions (angles rounded to whole steps) or servo pulses
+        (angles read back through the calibration table, so rounding the
+        pulses to whole microseconds shows).
+
+    Returns
+    -------
+    ndarray, shape (N, 2)
+        Reached joint angles, radians; feed them to ``arm.fk`` for the pen
+        path the arm will draw.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from inkreach.motion import JointStream
+    >>> from inkreach.signals import stepper_steps
+    >>> q = np.deg2rad([[10.01, 20.0]])
+    >>> s = JointStream(t=np.zeros(1), q=q, pen=np.ones(1, np.int8),
+    ...                 xy=np.zeros((1, 2)), period=0.01)
+    >>> np.rad2deg(quantised_angles(s, stepper_steps(s))).round(4).tolist()
+    [[10.0125, 20.025]]
+    """
+    if len(signals) != len(stream):
+        raise InkreachError(f"the signals hold {len(signals)} rows but the stream "
+                            f"{len(stream)}; make them from the same stream")
+    if isinstance(signals, StepperSignals):
+        return reached_angles(signals.steps, signals.config)
+    if isinstance(signals, ServoSignals):
+        cal = signals.calibration
+        p = np.asarray(signals.pulse_us, dtype=float)
+        deg = np.stack([cal.angle(0, p[:, 0]), cal.angle(1, p[:, 1])], axis=1)
+        return np.deg2rad(deg)
+    raise InkreachError("signals must come from stepper_steps or servo_pulses")

@@ -1,0 +1,141 @@
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from inkreach.arms import default_arm, parse_arm, arm_to_toml
+from inkreach.errors import InkreachError
+from inkreach.motion import JointStream
+from inkreach.signals import (ServoCalibration, quantised_angles, servo_calibration_from_arm,
+                              servo_pulses)
+
+
+def _line_stream(n=40, arm=None):
+    """A short pen-down line on the default arm, built by hand from its IK."""
+    arm = default_arm() if arm is None else arm
+    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], n)
+    q = arm.ik(xy)
+    pen = np.ones(n, np.int8)
+    pen[:3] = 0
+    return JointStream(t=np.arange(n) * 0.01, q=q, pen=pen, xy=arm.fk(q), period=0.01,
+                       stroke=np.where(pen == 1, 0, -1))
+
+
+def _stream_of_deg(deg):
+    deg = np.asarray(deg, float)
+    n = len(deg)
+    return JointStream(t=np.arange(n) * 0.02, q=np.deg2rad(deg), pen=np.zeros(n, np.int8),
+                       xy=np.zeros((n, 2)), period=0.02)
+
+
+@st.composite
+def _table(draw):
+    """A random strictly monotonic (angle, pulse) table, pulses rising or falling."""
+    k = draw(st.integers(2, 7))
+    ang = np.cumsum(draw(st.lists(st.floats(0.5, 60.0), min_size=k, max_size=k))) - 20.0
+    steps = np.array(draw(st.lists(st.floats(1.0, 400.0), min_size=k, max_size=k)))
+    rising = draw(st.booleans())
+    pulses = 500.0 + np.cumsum(steps) if rising else 2900.0 - np.cumsum(steps)
+    return np.stack([ang, pulses], 1)
+
+
+@settings(max_examples=60, deadline=None)
+@given(_table(), st.lists(st.floats(0.0, 1.0), min_size=1, max_size=30), st.booleans())
+def test_servo_pulse_matches_numpy_interp_for_monotonic_and_reversed_tables(tab, u, flip):
+    # Reference: numpy.interp (piecewise-linear interpolation, NumPy documentation).
+    given_tab = tab[::-1] if flip else tab  # angles may be listed falling too
+    cal = ServoCalibration(motor1=given_tab.tolist(), motor2=tab.tolist())
+    lo, hi = tab[0, 0], tab[-1, 0]
+    ang = lo + np.asarray(u) * (hi - lo)
+    got = cal.pulse(0, ang)
+    want = np.interp(ang, tab[:, 0], tab[:, 1])
+    np.testing.assert_allclose(got, want, rtol=0, atol=1e-9)
+
+
+@settings(max_examples=40, deadline=None)
+@given(_table(), st.lists(st.floats(0.0, 1.0), min_size=1, max_size=30))
+def test_servo_angle_inverts_pulse(tab, u):
+    # Reference: numpy.interp on the swapped table (the inverse of a monotonic
+    # piecewise-linear map is piecewise linear on the same knots).
+    cal = ServoCalibration(motor1=tab.tolist())
+    ang = tab[0, 0] + np.asarray(u) * (tab[-1, 0] - tab[0, 0])
+    p = cal.pulse(0, ang)
+    order = np.argsort(tab[:, 1])
+    np.testing.assert_allclose(cal.angle(0, p), np.interp(p, tab[order, 1], tab[order, 0]),
+                               atol=1e-9)
+    np.testing.assert_allclose(cal.angle(0, p), ang, atol=1e-7)
+
+
+def test_servo_defaults_are_common_practice_500_to_2500_over_180_degrees():
+    # Common practice (hobby servos): 50 Hz frames, about 500-2500 us over 0-180 deg.
+    cal = ServoCalibration()
+    assert cal.frame_hz == 50.0
+    np.testing.assert_allclose(cal.pulse(0, [0.0, 90.0, 180.0]), [500.0, 1500.0, 2500.0])
+
+
+def test_servo_pulses_refuse_angles_outside_the_table():
+    s = _stream_of_deg([[10.0, 10.0], [181.0, 10.0]])
+    with pytest.raises(InkreachError, match="motor 1 angle 181.000 deg is outside"):
+        servo_pulses(s, ServoCalibration())
+
+
+@pytest.mark.parametrize("table, words", [
+    ([[0.0, 500.0]], "at least two"),
+    ([], "pairs"),
+    ([[0.0, 500.0], [90.0, 1500.0], [80.0, 1600.0]], "angles must rise"),
+    ([[0.0, 500.0], [90.0, 1500.0], [180.0, 1400.0]], "pulses must rise"),
+    ([[0.0, 500.0], [90.0, 500.0]], "pulses must rise"),
+    ([[0.0, 500.0, 3.0], [90.0, 500.0, 3.0]], "pairs"),
+    ([[0.0, float("nan")], [90.0, 500.0]], "finite"),
+])
+def test_servo_calibration_refuses_bad_tables_with_one_line(table, words):
+    with pytest.raises(InkreachError, match=words) as info:
+        ServoCalibration(motor1=table)
+    assert "\n" not in str(info.value)
+
+
+def test_servo_pulses_are_whole_microseconds_and_pen_pulses_follow_pen():
+    s = _line_stream()
+    sig = servo_pulses(s, servo_calibration_from_arm(default_arm()))
+    assert sig.pulse_us.dtype == np.int64 and sig.pulse_us.shape == (len(s), 2)
+    cal = sig.calibration
+    assert np.all(sig.pen_us[s.pen == 1] == cal.pen_down_us)
+    assert np.all(sig.pen_us[s.pen == 0] == cal.pen_up_us)
+    exact = servo_pulses(s, cal, whole_us=False).pulse_us
+    assert np.max(np.abs(exact - sig.pulse_us)) <= 0.5
+
+
+def test_servo_quantised_angles_are_within_half_a_microsecond_of_the_command():
+    s = _line_stream()
+    cal = servo_calibration_from_arm(default_arm())
+    q = quantised_angles(s, servo_pulses(s, cal))
+    # 2000 us over 180 deg: half a microsecond is 0.045 deg.
+    assert np.max(np.abs(np.rad2deg(q - s.q))) <= 0.5 * 180.0 / 2000.0 + 1e-9
+    q_exact = quantised_angles(s, servo_pulses(s, cal, whole_us=False))
+    np.testing.assert_allclose(q_exact, s.q, atol=1e-9)
+
+
+def test_servo_calibration_reads_the_arm_file_table_and_survives_a_round_trip():
+    text = arm_to_toml(default_arm()) + (
+        "\n[servo]\nmotor1 = [[20.0, 2400.0], [120.0, 1500.0], [220.0, 600.0]]\n"
+        "pen_up_us = 1000.0\npen_down_us = 1900.0\nframe_hz = 50.0\n")
+    arm = parse_arm(text)
+    cal = servo_calibration_from_arm(arm)
+    assert cal.pen_up_us == 1000.0 and cal.pen_down_us == 1900.0
+    np.testing.assert_allclose(cal.pulse(0, [70.0]), [1950.0])
+    again = servo_calibration_from_arm(parse_arm(arm_to_toml(arm)))
+    assert again == cal
+    # motor 2 has no table: centred on the middle of theta2's limits (-40..160 -> 60).
+    assert cal.angle_range(1) == (-30.0, 150.0)
+
+
+@pytest.mark.parametrize("servo, words", [
+    ("wobble = 3", "unknown key wobble"),
+    ("motor2 = [[0.0, 500.0]]", r"\[servo\]: servo motor2 needs at least two"),
+    ("pen_up_us = -5.0", "pen_up_us must be a number greater than zero"),
+    ("frame_hz = 400.0\nmotor1 = [[0.0, 500.0], [180.0, 2500.0]]", "does not fit"),
+])
+def test_servo_calibration_from_arm_names_the_bad_key(servo, words):
+    arm = parse_arm(arm_to_toml(default_arm()) + "\n[servo]\n" + servo + "\n")
+    with pytest.raises(InkreachError, match=words):
+        servo_calibration_from_arm(arm)
