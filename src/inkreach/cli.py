@@ -1,0 +1,373 @@
+"""Command line: a thin layer over :func:`inkreach.plan` and the arm tools."""
+
+import argparse
+import json
+import os
+import sys
+import tempfile
+
+import numpy as np
+
+from .errors import InkreachError
+
+__all__ = ["main"]
+
+_STYLES = ("outline", "centerline", "hatch", "stipple", "contour")
+
+_PLAN_EXAMPLE = """\
+examples:
+  inkreach plan photo.jpg                       outline style, default arm, files in ./inkreach-out
+  inkreach plan logo.png --style centerline --out logo-plan
+  inkreach plan face.jpg --style hatch --arm my_arm.toml --paper 0 60 148 105
+  inkreach plan cat.jpg --style stipple --set dots=6000 --set mode=line --format json
+"""
+
+
+def _number_list(n):
+    def parse(text):
+        try:
+            vals = [float(v) for v in text.replace(",", " ").split()]
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"expected {n} numbers, got {text!r}") from None
+        if len(vals) != n:
+            raise argparse.ArgumentTypeError(f"expected {n} numbers, got {text!r}")
+        return vals
+    return parse
+
+
+def _value(text):
+    """Parse a --set value: number, true/false, list, or text."""
+    t = text.strip()
+    if t.lower() in ("true", "yes", "on"):
+        return True
+    if t.lower() in ("false", "no", "off"):
+        return False
+    try:
+        return int(t)
+    except ValueError:
+        pass
+    try:
+        return float(t)
+    except ValueError:
+        pass
+    if "," in t:
+        return [_value(x) for x in t.split(",") if x.strip()]
+    return t
+
+
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose errors are one line and exit status 2."""
+
+    def error(self, message):
+        self.exit(2, f"inkreach: error: {message}; see 'inkreach {self.prog.split()[-1]} --help'\n"
+                  if " " in self.prog else f"inkreach: error: {message}; see 'inkreach --help'\n")
+
+
+def _add_plan_options(p):
+    p.add_argument("--arm", metavar="ARM", default=None,
+                   help="arm file (TOML) or a built-in arm: default, wide, serial "
+                        "(default: the built-in desk five-bar)")
+    p.add_argument("--style", "-s", default="outline", choices=_STYLES,
+                   help="how the picture becomes pen lines: outline (edges of a photo), "
+                        "centerline (middle of drawn lines, for logos and text), hatch "
+                        "(tone by parallel lines), stipple (tone by dots or one long line), "
+                        "contour (lines of equal tone); default outline")
+    p.add_argument("--out", "-o", default="inkreach-out", metavar="DIR",
+                   help="folder for the output files (default ./inkreach-out)")
+    p.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
+                   help="a style option, e.g. --set detail=0.7 or --set spacing=2; "
+                        "'inkreach styles' lists them all")
+    p.add_argument("--paper", type=_number_list(4), metavar="'X Y W H'",
+                   help="paper rectangle in arm mm (lower-left corner, width, height) the "
+                        "drawing must stay inside")
+    p.add_argument("--margin", type=float, default=5.0, metavar="MM",
+                   help="margin inside the paper, mm (default 5)")
+    p.add_argument("--size", type=float, default=None, metavar="MM",
+                   help="fixed length of the drawing's longer side, mm (default: as large "
+                        "as the arm allows)")
+    p.add_argument("--prefer", choices=("largest", "isotropic"), default="largest",
+                   help="where to put the drawing: as large as possible, or around the "
+                        "arm's best-conditioned point (default largest)")
+    p.add_argument("--upright", action="store_true",
+                   help="never rotate the drawing (by default a few tilts are tried and "
+                        "the largest fit is kept)")
+    p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
+                   help="how far a drawn line may stray from straight, mm (default 0.05)")
+    p.add_argument("--period", type=float, default=0.02, metavar="S",
+                   help="sample period of the joint stream, seconds (default 0.02)")
+    p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
+                   help="largest pen speed while drawing, mm/s (default: the motion stage's)")
+    p.add_argument("--signals", choices=("auto", "servo", "stepper", "both"), default="auto",
+                   help="motor signals to export (default: from the arm file)")
+    p.add_argument("--format", choices=("table", "json"), default="table",
+                   help="how to print the figures (default table)")
+    p.add_argument("--quiet", "-q", action="store_true", help="print nothing but errors")
+
+
+def build_parser():
+    """The argument parser of the ``inkreach`` command."""
+    top = _Parser(prog="inkreach",
+                  description="Turn a picture into a checked joint-angle stream for a "
+                              "two-motor pen-drawing arm.",
+                  epilog="Safety: keep hands clear of a moving arm, rehearse with the pen "
+                         "lifted, keep a power switch within reach.")
+    top.add_argument("--version", action="version", version=_version())
+    top.add_argument("--debug", action="store_true", help=argparse.SUPPRESS)
+    sub = top.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    p = sub.add_parser("plan", help="plan a drawing from a picture",
+                       description="Trace a picture in a style, order the strokes, place the "
+                                   "drawing where the arm is well conditioned, time it within "
+                                   "the motor limits, check every sample, and write the files.",
+                       epilog=_PLAN_EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("image", help="the picture: PNG, JPEG, WebP, TIFF, BMP or GIF")
+    _add_plan_options(p)
+
+    d = sub.add_parser("demo", help="plan the shipped demo picture on the default arm",
+                       description="Run the whole job on a shipped demo picture with the "
+                                   "default arm.",
+                       epilog="example:\n  inkreach demo --out demo-out --style hatch",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    d.add_argument("--picture", default="emblem",
+                   help="which demo picture: emblem, still-life or postcard-text (default emblem)")
+    _add_plan_options(d)
+    d.set_defaults(out="inkreach-demo", style=None)
+
+    a = sub.add_parser("arm", help="report where an arm can draw",
+                       description="Workspace report: reachable and usable area, the largest "
+                                   "drawing rectangles, the worst conditioning inside them, and "
+                                   "a conditioning map picture.",
+                       epilog="examples:\n  inkreach arm\n  inkreach arm my_arm.toml --out report",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    a.add_argument("arm", nargs="?", default=None,
+                   help="arm file or built-in arm name (default: the built-in desk five-bar)")
+    a.add_argument("--out", "-o", default="inkreach-arm", metavar="DIR",
+                   help="folder for arm_map.png and arm.json (default ./inkreach-arm)")
+    a.add_argument("--format", choices=("table", "json"), default="table")
+
+    s = sub.add_parser("serve", help="start the local web page",
+                       description="Start the local web page: drop in a picture, pick a "
+                                   "style, look at the preview and figures, download the files.",
+                       epilog="example:\n  inkreach serve --port 8765   then open "
+                              "http://127.0.0.1:8765/",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    s.add_argument("--port", type=int, default=8765, help="port (default 8765)")
+    s.add_argument("--host", default="127.0.0.1",
+                   help="address to bind (default 127.0.0.1, this computer only)")
+
+    c = sub.add_parser("calibrate", help="fit the real arm from measured dots",
+                       description="Step 1 'sheet': write a calibration sheet and stream that "
+                                   "put numbered dots at known angles, and a CSV to fill in. "
+                                   "Step 2 'fit': read the measured dots and write a corrected "
+                                   "arm file.",
+                       epilog="examples:\n  inkreach calibrate sheet --arm my_arm.toml --out cal\n"
+                              "  inkreach calibrate fit cal/measurements.csv --arm my_arm.toml "
+                              "--out cal",
+                       formatter_class=argparse.RawDescriptionHelpFormatter)
+    c.add_argument("step", choices=("sheet", "fit"), help="sheet or fit")
+    c.add_argument("measurements", nargs="?", help="for fit: the filled-in measurements CSV")
+    c.add_argument("--arm", default=None, help="arm file or built-in arm name")
+    c.add_argument("--dots", type=int, default=12, help="number of dots on the sheet (default 12)")
+    c.add_argument("--out", "-o", default="inkreach-calibration", metavar="DIR")
+
+    sub.add_parser("styles", help="list the drawing styles and their options")
+    return top
+
+
+def _version():
+    from . import __version__
+    return f"inkreach {__version__}"
+
+
+def main(argv=None):
+    """Run the command line; returns the exit status."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return 0
+    debug = args.debug or os.environ.get("INKREACH_DEBUG")
+    try:
+        return _COMMANDS[args.command](args)
+    except InkreachError as exc:
+        print(f"inkreach: error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("inkreach: stopped; no files were written", file=sys.stderr)
+        return 130
+    except Exception as exc:  # a bug, not bad input: say so in one line
+        if debug:
+            raise
+        print(f"inkreach: internal error: {type(exc).__name__}: {exc}; nothing was written. "
+              "Run again with INKREACH_DEBUG=1 for details and please report it.",
+              file=sys.stderr)
+        return 3
+
+
+def _plan_kwargs(args):
+    opts = {}
+    for item in args.set:
+        if "=" not in item:
+            raise InkreachError(f"--set {item!r} needs the form NAME=VALUE, e.g. --set detail=0.7")
+        k, v = item.split("=", 1)
+        opts[k.strip().replace("-", "_")] = _value(v)
+    opts.update(paper=args.paper, margin=args.margin, size=args.size, prefer=args.prefer,
+                chord_tol=args.chord_tol, period=args.period, tip_speed=args.tip_speed,
+                signals=args.signals)
+    if args.upright:
+        opts["rotations"] = [0.0]
+    return opts
+
+
+def _check_out_dir(path):
+    path = os.fspath(path)
+    if os.path.exists(path) and not os.path.isdir(path):
+        raise InkreachError(f"output folder {path} is a file; give a folder path with --out")
+    parent = os.path.dirname(os.path.abspath(path))
+    probe = path if os.path.isdir(path) else parent
+    while not os.path.exists(probe):
+        probe = os.path.dirname(probe)
+    if not os.access(probe, os.W_OK):
+        raise InkreachError(f"output folder {path} is not writable; choose another with --out")
+
+
+def _cmd_plan(args, image=None, style=None):
+    from .plan import plan
+
+    _check_out_dir(args.out)
+    image = args.image if image is None else image
+    style = args.style if style is None else style
+    with _Progress(enabled=not args.quiet and args.format == "table") as prog:
+        result = plan(image, arm=args.arm, style=style, progress=prog, **_plan_kwargs(args))
+    written = result.save(args.out)
+    if args.format == "json":
+        print(json.dumps({"stats": result.stats, "files": written}, indent=2))
+    elif not args.quiet:
+        print(_figures_table(result, written))
+    return 0
+
+
+def _cmd_demo(args):
+    from .demo import demo_picture
+    path, style = demo_picture(args.picture)
+    return _cmd_plan(args, image=path, style=args.style or style)
+
+
+def _cmd_arm(args):
+    from .plan import resolve_arm
+    from .report import arm_report
+
+    _check_out_dir(args.out)
+    arm = resolve_arm(args.arm)
+    rep, files = arm_report(arm)
+    from .export import write_files
+    write_files(args.out, files)
+    written = {n: os.path.join(args.out, n) for n in files}
+    if args.format == "json":
+        print(json.dumps({**rep, "files": written}, indent=2))
+    else:
+        lines = [f"arm: {arm.name} ({arm.kind})",
+                 f"  reachable area        {rep['reach_area_mm2']:10.0f} mm²",
+                 f"  usable area           {rep['usable_area_mm2']:10.0f} mm²  "
+                 f"(conditioning ≥ {arm.limits.min_conditioning:g}, inside the joint limits)"]
+        for key, label in (("rect_4_3", "4:3"), ("rect_1_1", "1:1")):
+            r = rep[key]
+            if r is None:
+                lines.append(f"  best {label} rectangle   none fits")
+                continue
+            lines.append(f"  best {label} rectangle   {r['width_mm']:.1f} × {r['height_mm']:.1f} mm "
+                         f"at ({r['x0_mm']:.1f}, {r['y0_mm']:.1f}), worst conditioning "
+                         f"{r['worst_conditioning']:.3f}")
+        lines.append(f"  best conditioning     {rep['best_conditioning']:.3f} at "
+                     f"({rep['best_point_mm'][0]:.1f}, {rep['best_point_mm'][1]:.1f}) mm")
+        lines.append("files: " + ", ".join(written.values()))
+        print("\n".join(lines))
+    return 0
+
+
+def _cmd_serve(args):
+    from .web import serve
+    serve(host=args.host, port=args.port)
+    return 0
+
+
+def _cmd_calibrate(args):
+    from .calibrate_cli import run_calibrate
+    return run_calibrate(args)
+
+
+def _cmd_styles(args):
+    from .trace import style_options
+    for name in _STYLES:
+        print(name)
+        for opt, (default, help_) in style_options(name).items():
+            print(f"  {opt:<14} default {default!r:<10} {help_}")
+    return 0
+
+
+_COMMANDS = {"plan": _cmd_plan, "demo": _cmd_demo, "arm": _cmd_arm, "serve": _cmd_serve,
+             "calibrate": _cmd_calibrate, "styles": _cmd_styles}
+
+
+def _fmt_time(s):
+    s = float(s)
+    if s < 90:
+        return f"{s:.1f} s"
+    m, sec = divmod(int(round(s)), 60)
+    h, m = divmod(m, 60)
+    return f"{h} h {m:02d} min" if h else f"{m} min {sec:02d} s"
+
+
+def _figures_table(result, written):
+    st = result.stats
+    rows = [
+        ("style", st["style"]),
+        ("arm", st["arm"]),
+        ("strokes", f"{st['strokes']}"),
+        ("pen lifts", f"{st['pen_lifts']}"),
+        ("pen-down length", f"{st['pen_down_mm'] / 1000:.2f} m"),
+        ("pen-up length", f"{st['pen_up_mm'] / 1000:.2f} m"),
+        ("drawing time", f"{_fmt_time(st['estimated_s'])} (drawing {_fmt_time(st['pen_down_s'])},"
+                         f" travel and lifts {_fmt_time(st['pen_up_s'])})"),
+        ("drawing size", f"{st['drawing_mm'][0]:.1f} × {st['drawing_mm'][1]:.1f} mm at "
+                         f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm,"
+                         f" rotated {st['rotation_deg']:.0f}°"),
+        ("worst conditioning", f"{st['min_conditioning']:.3f} (floor "
+                               f"{result.arm.limits.min_conditioning:g})"),
+    ]
+    if "fidelity" in st:
+        f = st["fidelity"]
+        rows.append(("fidelity", f"SSIM {f['ssim']:.3f}, tone error {f['tone_error']:.3f}"))
+    rows.append(("stream", f"{st['rows']} rows every {st['period_s'] * 1000:g} ms, all checked"))
+    width = max(len(k) for k, _ in rows)
+    out = [f"  {k:<{width}}  {v}" for k, v in rows]
+    out.append("  files:")
+    out += [f"    {p}" for p in written.values()]
+    out.append("  Before running: keep hands clear, rehearse with the pen lifted, and keep a "
+               "power switch within reach (see SAFETY.txt).")
+    return "\n".join(out)
+
+
+class _Progress:
+    """Stage-by-stage progress on a terminal (tqdm), silent otherwise."""
+
+    def __init__(self, enabled=True):
+        self.enabled = enabled and sys.stderr.isatty()
+        self.bar = None
+
+    def __enter__(self):
+        if self.enabled:
+            from tqdm import tqdm
+            self.bar = tqdm(total=9, desc="planning", unit="stage", file=sys.stderr,
+                            leave=False, bar_format="{desc:<18} {bar} {n_fmt}/{total_fmt}")
+        return self
+
+    def __call__(self, stage, done, total):
+        if self.bar is not None:
+            self.bar.set_description(stage)
+            self.bar.update(1)
+
+    def __exit__(self, *exc):
+        if self.bar is not None:
+            self.bar.close()
+        return False

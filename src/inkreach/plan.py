@@ -1,0 +1,309 @@
+"""The whole job wired together: picture in, checked joint stream out."""
+
+import os
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .arms import Arm, arm_to_toml, default_arm, load_arm, parse_arm, workspace_map
+from .errors import InkreachError
+
+__all__ = ["Plan", "plan", "PLACE_OPTIONS", "MOTION_OPTIONS"]
+
+#: Options of the placement stage, with their defaults.
+PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
+                 "rotations": None}
+#: Options of the motion stage, with their defaults.
+MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
+#: Options of the planner itself.
+PLAN_OPTIONS = {"max_side": 1200, "joint_order": True, "signals": "auto", "start": None}
+
+
+@dataclass(frozen=True, eq=False)
+class Plan:
+    """A finished, checked drawing plan.
+
+    Attributes
+    ----------
+    strokes : list of ndarray
+        Polylines in arm mm, in drawing order and direction.
+    stream : JointStream
+        The checked joint-angle stream.
+    stats : dict
+        Figures: ``strokes``, ``pen_lifts``, ``pen_down_mm``, ``pen_up_mm``,
+        ``estimated_s``, ``min_conditioning`` and more.
+    placement : Placement
+        Where the picture sits on the arm; ``placement.matrix`` is
+        ``image_to_arm``.
+    arm : Arm
+    style : str
+    options : dict
+        Every option as used, for the record.
+    signals : dict
+        Motor signals by kind (``"servo"``, ``"stepper"``).
+    report : StreamReport
+        What the final safety check measured.
+    """
+
+    strokes: list
+    stream: object
+    stats: dict
+    placement: object
+    arm: Arm
+    style: str
+    options: dict
+    signals: dict = field(default_factory=dict)
+    report: object = None
+    workspace: object = None
+    image_size: tuple = None
+
+    @property
+    def image_to_arm(self):
+        """2 x 3 affine taking an input pixel (column, row) to arm mm."""
+        return np.asarray(self.placement.matrix, dtype=float)
+
+    def preview(self, size=900):
+        """The preview picture (a Pillow image, so it shows in a notebook)."""
+        from .export import preview_png
+        return preview_png(self.strokes, arm=self.arm, wmap=self.workspace,
+                           stream=self.stream, stats=self.stats, size=size)
+
+    def simulated(self):
+        """What the arm will really draw, from the angles the motors reach."""
+        from .export import simulated_png
+        return simulated_png(_reached_xy(self), self.stream.pen, self.arm.pen.width_mm)
+
+    def files(self):
+        """Every output file of this plan, name -> bytes or text."""
+        import io
+
+        from . import export
+
+        def png(img):
+            buf = io.BytesIO()
+            img.save(buf, format="PNG", optimize=False)
+            return buf.getvalue()
+
+        extra = {"arm": arm_to_toml(self.arm), "style": self.style,
+                 "options": _jsonable(self.options), "image_size": self.image_size}
+        out = {
+            "plan.json": export.plan_json(self.strokes, self.image_to_arm, self.stats, extra),
+            "joints.csv": export.joints_csv(self.stream),
+            "preview.svg": export.preview_svg(self.strokes, arm=self.arm, wmap=self.workspace,
+                                              placement_hull=self.placement.hull,
+                                              stats=self.stats),
+            "preview.png": png(self.preview()),
+            "simulated.png": png(self.simulated()),
+            "SAFETY.txt": export.SAFETY_TEXT + "\n",
+        }
+        if "servo" in self.signals:
+            out["servo.csv"] = export.servo_csv(self.stream, self.signals["servo"])
+        if "stepper" in self.signals:
+            out["stepper.csv"] = export.stepper_csv(self.stream, self.signals["stepper"])
+        out["plan.h"] = export.firmware_header(self.stream,
+                                               servo_signals=self.signals.get("servo"),
+                                               stepper_signals=self.signals.get("stepper"))
+        return out
+
+    def save(self, folder):
+        """Write every output file into ``folder`` (atomically; nothing half-written).
+
+        Returns
+        -------
+        dict
+            File name -> full path of what was written.
+        """
+        from .export import write_files
+        files = self.files()
+        write_files(folder, files)
+        return {name: os.path.join(os.fspath(folder), name) for name in files}
+
+
+def _jsonable(v):
+    if isinstance(v, dict):
+        return {k: _jsonable(x) for k, x in v.items()}
+    if isinstance(v, (list, tuple)):
+        return [_jsonable(x) for x in v]
+    if isinstance(v, np.generic):
+        return v.item()
+    if isinstance(v, np.ndarray):
+        return v.tolist()
+    return v
+
+
+def _reached_xy(p):
+    """Pen positions the motors really reach, after signal quantisation."""
+    from .signals import quantised_angles
+    q = quantised_angles(p.stream, p.arm, p.signals)
+    return p.arm.fk(q)
+
+
+def resolve_arm(arm):
+    """An arm from None (the default), a built-in name, a path, TOML text or an Arm."""
+    if arm is None:
+        return default_arm()
+    if isinstance(arm, Arm):
+        return arm
+    if isinstance(arm, (str, os.PathLike)):
+        s = os.fspath(arm)
+        if "\n" in s or "=" in s:
+            return parse_arm(s, source="uploaded arm")
+        return load_arm(s)
+    raise InkreachError(f"arm must be a path, a built-in name or an arm, got {type(arm).__name__}")
+
+
+def _split_options(options):
+    place = {k: options.pop(k, d) for k, d in PLACE_OPTIONS.items()}
+    motion = {k: options.pop(k, d) for k, d in MOTION_OPTIONS.items()}
+    own = {k: options.pop(k, d) for k, d in PLAN_OPTIONS.items()}
+    return place, motion, own, options
+
+
+def _positive(name, v, allow_none=True):
+    if v is None and allow_none:
+        return v
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        raise InkreachError(f"option {name} must be a number, got {v!r}") from None
+    if not np.isfinite(f) or f <= 0:
+        raise InkreachError(f"option {name} must be a positive number, got {v!r}")
+    return f
+
+
+def plan(image, arm=None, style="outline", *, progress=None, **options):
+    """Turn a picture into a checked drawing plan for an arm.
+
+    Parameters
+    ----------
+    image : str, os.PathLike, PIL.Image.Image or ndarray
+        The picture.
+    arm : None, str, os.PathLike or Arm
+        The arm: None for the built-in default, a built-in name
+        (``"default"``, ``"wide"``, ``"serial"``), an arm-file path or TOML
+        text, or an arm object.
+    style : str
+        ``"outline"``, ``"centerline"``, ``"hatch"``, ``"stipple"`` or
+        ``"contour"``.
+    progress : callable, optional
+        Called as ``progress(stage, done, total)`` as the work goes on.
+    **options
+        Style options (see :func:`inkreach.trace.style_options`), placement
+        options (``paper=(x0, y0, w, h)``, ``margin``, ``size``, ``prefer``,
+        ``rotations``), motion options (``chord_tol`` mm, ``period`` s,
+        ``tip_speed`` mm/s) and ``max_side`` (working resolution, px),
+        ``joint_order`` (reorder by joint-space time), ``signals``
+        (``"auto"``, ``"servo"``, ``"stepper"`` or ``"both"``).
+
+    Returns
+    -------
+    Plan
+
+    Raises
+    ------
+    InkreachError
+        For a bad picture, arm or option, a picture with nothing to draw, or a
+        drawing that cannot be made safe on this arm.
+    """
+    from .motion import check_stream, plan_motion
+    from .place import place_drawing, provisional_scale
+    from .route import merge_strokes, order_strokes, reorder_joint_space, travel_stats
+    from .signals import make_signals
+    from .trace import load_image, trace
+
+    step = _progress(progress)
+    options = dict(options)
+    place_opts, motion_opts, own, style_opts = _split_options(options)
+    for k in ("chord_tol", "period", "tip_speed"):
+        motion_opts[k] = _positive(k, motion_opts[k])
+    place_opts["margin"] = float(place_opts["margin"]) if place_opts["margin"] is not None else 0.0
+    if place_opts["margin"] < 0 or not np.isfinite(place_opts["margin"]):
+        raise InkreachError("option margin must be zero or more mm")
+    place_opts["size"] = _positive("size", place_opts["size"])
+    max_side = int(_positive("max_side", own["max_side"], allow_none=False))
+
+    step("arm", 0, 1)
+    arm = resolve_arm(arm)
+    wmap = workspace_map(arm)
+    if wmap.usable.sum() < 16:
+        raise InkreachError("the arm's usable region is too small for any drawing; "
+                            "widen the joint limits or lower min_conditioning")
+    step("load", 0, 1)
+    pic = load_image(image, max_side=max_side)
+    W, H = pic.original_size
+    s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
+                                                       ("paper", "margin", "size")})
+    pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
+    step("trace", 0, 1)
+    strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
+    strokes_o = [pic.to_original(s) for s in strokes_w]
+    step("merge", 0, 1)
+    merged = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
+    step("place", 0, 1)
+    placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H), **place_opts)
+    strokes_mm = placement.apply_all(merged)
+    start_q = arm.home() if own["start"] is None else np.deg2rad(np.asarray(own["start"], float))
+    if start_q is None:
+        start_xy = wmap.best_point() if not len(strokes_mm) else placement.hull.mean(0)
+        start_q = arm.ik(start_xy)
+    start_xy = arm.fk(start_q)
+    step("route", 0, 1)
+    route = order_strokes(strokes_mm, start=start_xy)
+    if own["joint_order"]:
+        route = reorder_joint_space(route, arm, start_q=start_q)
+    step("motion", 0, 1)
+    stream = plan_motion(route.strokes, arm, start=start_q, end=start_q,
+                         region=placement.hull, **motion_opts)
+    step("check", 0, 1)
+    report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
+    signals = make_signals(stream, arm, kind=own["signals"])
+    travel = travel_stats(route.strokes, start=start_xy)
+    stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
+    used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
+            "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
+    p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
+             style=style, options=used, signals=signals, report=report, workspace=wmap,
+             image_size=(int(W), int(H)))
+    step("done", 1, 1)
+    return p
+
+
+def _stats(travel, stream, report, placement, arm, style, strokes):
+    pen = stream.pen.astype(bool)
+    dt = stream.period
+    down_s = float(pen.sum()) * dt
+    # lifting and lowering dwell: rows that hold still at a pen change
+    still = np.zeros(len(pen), bool)
+    still[1:] = np.all(np.abs(np.diff(stream.q, axis=0)) < 1e-12, axis=1)
+    lift_s = float((still & ~pen).sum() + (still & pen).sum()) * dt
+    x0, y0, w, h = placement.bbox
+    t = travel.as_dict()
+    stats = {
+        "style": style,
+        "strokes": int(t["strokes"]),
+        "pen_lifts": int(t["pen_lifts"]),
+        "pen_down_mm": round(float(t["pen_down_mm"]), 3),
+        "pen_up_mm": round(float(t["pen_up_mm"]), 3),
+        "estimated_s": round(float(stream.duration), 3),
+        "pen_down_s": round(down_s, 3),
+        "pen_up_s": round(float(stream.duration) - down_s, 3),
+        "lift_dwell_s": round(lift_s, 3),
+        "min_conditioning": round(float(report.min_conditioning), 4),
+        "drawing_mm": [round(float(w), 2), round(float(h), 2)],
+        "drawing_origin_mm": [round(float(x0), 2), round(float(y0), 2)],
+        "rotation_deg": round(float(np.rad2deg(placement.rotation)), 3),
+        "mm_per_px": round(float(placement.scale), 6),
+        "rows": int(len(stream)),
+        "period_s": float(stream.period),
+        "max_speed_deg_s": round(float(np.max(report.max_speed_deg_s)), 3),
+        "max_accel_deg_s2": round(float(np.max(report.max_accel_deg_s2)), 3),
+        "max_deviation_mm": round(float(report.max_deviation_mm), 5),
+        "arm": arm.name,
+    }
+    return stats
+
+
+def _progress(cb):
+    if cb is None:
+        return lambda *a: None
+    return cb
