@@ -1,0 +1,98 @@
+"""The calibration model: a parameter vector <-> an arm, and the predicted dots.
+
+Model: the angle a motor really turns to is ``scale * commanded + offset``;
+the pen then sits at the forward kinematics of the true geometry at those
+angles. Internal units: mm for lengths and positions, radians for offsets,
+plain numbers for scales.
+"""
+
+import dataclasses
+
+import numpy as np
+
+__all__ = []
+
+_FIVEBAR = (
+    ("left_motor_x", "motors"), ("left_motor_y", "motors"),
+    ("right_motor_x", "motors"), ("right_motor_y", "motors"),
+    ("left_upper", "lengths"), ("right_upper", "lengths"),
+    ("left_lower", "lengths"), ("right_lower", "lengths"),
+    ("pen_extension", "pen_extension"),
+)
+_SERIAL = (
+    ("shoulder_x", "motors"), ("shoulder_y", "motors"),
+    ("upper", "lengths"), ("lower", "lengths"),
+)
+_ANGLES = (("offset1", "offsets"), ("offset2", "offsets"),
+           ("scale1", "scales"), ("scale2", "scales"))
+GROUPS = ("lengths", "motors", "pen_extension", "offsets", "scales")
+
+
+def param_spec(arm):
+    """Names and groups of the model parameters of an arm, in vector order."""
+    geo = _FIVEBAR if arm.kind == "five-bar" else _SERIAL
+    names = tuple(n for n, _ in geo + _ANGLES)
+    groups = tuple(g for _, g in geo + _ANGLES)
+    return names, groups
+
+
+def existing_calibration(arm):
+    """(offset_rad (2,), scale (2,)) recorded in the arm's hardware, or identity."""
+    cal = (arm.hardware or {}).get("calibration") or {}
+    off = np.deg2rad(np.asarray(cal.get("offset_deg", (0.0, 0.0)), float))
+    sc = np.asarray(cal.get("scale", (1.0, 1.0)), float)
+    return off, sc
+
+
+def to_vector(arm):
+    """The arm's parameter vector (its existing calibration included)."""
+    off, sc = existing_calibration(arm)
+    if arm.kind == "five-bar":
+        geo = [*arm.left_motor, *arm.right_motor, arm.left_upper, arm.right_upper,
+               arm.left_lower, arm.right_lower, arm.pen_extension]
+    else:
+        geo = [*arm.shoulder, arm.upper, arm.lower]
+    return np.array([*geo, *off, *sc], dtype=float)
+
+
+def bounds(arm):
+    """Lower and upper bounds of the parameters (lengths and scales positive)."""
+    names, groups = param_spec(arm)
+    lo = np.full(len(names), -np.inf)
+    hi = np.full(len(names), np.inf)
+    for i, (n, g) in enumerate(zip(names, groups)):
+        if g == "lengths" or g == "scales":
+            lo[i] = 1e-6
+        elif g == "pen_extension":
+            lo[i] = 0.0
+    return lo, hi
+
+
+def geometry_arm(arm, v):
+    """The arm with the geometry of ``v`` and no angle correction of its own."""
+    v = np.asarray(v, float)
+    hw = {k: val for k, val in (arm.hardware or {}).items() if k != "calibration"}
+    if arm.kind == "five-bar":
+        kw = dict(left_motor=(float(v[0]), float(v[1])), right_motor=(float(v[2]), float(v[3])),
+                  left_upper=float(v[4]), right_upper=float(v[5]), left_lower=float(v[6]),
+                  right_lower=float(v[7]), pen_extension=float(v[8]))
+    else:
+        kw = dict(shoulder=(float(v[0]), float(v[1])), upper=float(v[2]), lower=float(v[3]))
+    return dataclasses.replace(arm, hardware=hw, **kw)
+
+
+def predict(arm, v, q):
+    """Pen positions (N, 2) for commanded angles ``q`` under parameters ``v``."""
+    v = np.asarray(v, float)
+    off, sc = v[-4:-2], v[-2:]
+    return geometry_arm(arm, v).fk(np.asarray(q, float) * sc + off)
+
+
+def corrected_arm(arm, v):
+    """The arm with fitted geometry and the angle correction in its hardware."""
+    v = np.asarray(v, float)
+    a = geometry_arm(arm, v)
+    hw = dict(a.hardware)
+    hw["calibration"] = {"offset_deg": [float(x) for x in np.rad2deg(v[-4:-2])],
+                         "scale": [float(x) for x in v[-2:]]}
+    return dataclasses.replace(a, hardware=hw)
