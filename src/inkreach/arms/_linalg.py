@@ -78,19 +78,25 @@ def circle_intersection(c0, r0, c1, r1, side):
     """
     c0 = np.asarray(c0, dtype=float)
     c1 = np.asarray(c1, dtype=float)
-    delta = c1 - c0
-    d2 = np.einsum("ij,ij->i", delta, delta)
-    d = np.sqrt(d2)
+    x0, y0 = c0[..., 0], c0[..., 1]
+    dx = c1[..., 0] - x0
+    dy = c1[..., 1] - y0
+    d2 = dx * dx + dy * dy
     with np.errstate(invalid="ignore", divide="ignore"):
-        a = (r0 * r0 - r1 * r1 + d2) / (2.0 * d)
-        h2 = r0 * r0 - a * a
-        bad = (d == 0) | (h2 < 0) | ~np.isfinite(h2)
-        h = np.sqrt(np.where(bad, np.nan, np.maximum(h2, 0.0)))
-        u = delta / d[:, None]
-    n = np.stack([-u[:, 1], u[:, 0]], axis=1)
-    p = c0 + a[:, None] * u + (np.asarray(side, dtype=float) * h)[..., None] * n
-    p[bad] = np.nan
-    return p
+        inv_d2 = 1.0 / d2
+        # a / d and h / d: distances along and across the centre line, as
+        # fractions of the centre distance
+        a_d = 0.5 * (1.0 + (r0 * r0 - r1 * r1) * inv_d2)
+        h2_d2 = r0 * r0 * inv_d2 - a_d * a_d
+        h_d = np.sqrt(h2_d2)  # NaN where the circles do not meet
+    h_d = h_d * side
+    out = np.empty(np.broadcast(dx, x0).shape + (2,))
+    out[..., 0] = x0 + a_d * dx - h_d * dy
+    out[..., 1] = y0 + a_d * dy + h_d * dx
+    bad = ~(d2 > 0) | ~(h2_d2 >= 0)
+    if bad.any():
+        out[bad] = np.nan
+    return out
 
 
 def wrap_into(theta, lo):

@@ -149,15 +149,12 @@ class FiveBar(Arm):
         X = np.atleast_2d(p)
         mL, mR = self._motors()
         sgn = 1.0 if self.elbows == "out" else -1.0
-        n = len(X)
         # Left leg: motor -> elbow (upper) -> pen (lower + extension), a
         # two-link chain; its elbow lies left of motor -> pen for "out".
         reach_L = self.left_lower + self.pen_extension
-        mLn = np.broadcast_to(mL, (n, 2))
-        eL = circle_intersection(mLn, self.left_upper, X, reach_L, sgn)
-        P = eL + (self.left_lower / reach_L) * (X - eL)
-        mRn = np.broadcast_to(mR, (n, 2))
-        eR = circle_intersection(mRn, self.right_upper, P, self.right_lower, -sgn)
+        eL = circle_intersection(mL, self.left_upper, X, reach_L, sgn)
+        P = X if self.pen_extension == 0 else eL + (self.left_lower / reach_L) * (X - eL)
+        eR = circle_intersection(mR, self.right_upper, P, self.right_lower, -sgn)
         with np.errstate(invalid="ignore"):
             # Assembly check: P must lie left of elbow_L -> elbow_R.
             ok = cross2(eR - eL, P - eL) > 0
