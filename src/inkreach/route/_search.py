@@ -1,0 +1,371 @@
+"""Local search for an open path through items of one or two ends.
+
+Every item (a point, a closed loop, or an open stroke) is one node or two
+nodes joined by a fixed edge (the stroke itself). The open path is closed
+into a cycle with two extra nodes: ``S`` (the start point, or free when
+there is none) and ``D`` (free: distance 0 to everything), joined by a
+fixed edge like a stroke. A cycle allows segment reversals on the shorter
+side, and an edge into ``D`` costs nothing, so the cycle's cost is the
+open path's cost.
+
+The tour is an array of nodes with an inverse position array. Moves are
+2-opt (reverse a segment; fixed edges are never cut, so the strokes in it
+turn round with it) and Or-opt (move a chain of one to three items to
+another gap, either way round), over K-nearest candidate lists with a
+queue of active nodes (don't-look bits), followed by random segment-swap
+kicks (iterated local search) while work is left.
+
+Work is counted in deterministic units (node activations plus moved
+array entries), so a given seed gives the same result on any machine; a
+wall-clock guard stops runaway searches on very slow machines.
+"""
+
+import math
+import time
+from collections import deque
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+__all__ = []
+
+_EPS = 1e-9
+
+# Work units per second of budget, measured on the development machine
+# (two cores): one unit is about one node activation.
+UNITS_PER_SECOND = 60_000.0
+
+
+def default_budget(n_items):
+    """Default search budget in seconds for ``n_items`` items (common practice)."""
+    return float(min(0.1 + 120e-6 * n_items, 10.0))
+
+
+class PathSearch:
+    """Tour state and moves; see the module docstring.
+
+    Parameters
+    ----------
+    xy : ndarray, shape (n, 2)
+        Coordinates of the real nodes (mm, or joint angles for ``kind="joint"``).
+    partner : ndarray of int, shape (n,)
+        The other end of each node's item (the node itself for one-node items).
+    order : sequence of int
+        Initial open path through every real node; both ends of a two-node
+        item must be next to each other.
+    start : array_like of shape (2,) or None
+        Fixed start point; None leaves the path free at both ends.
+    kind : {"euclidean", "joint"}
+        Distance: straight line, or the trapezoid time of the slower joint.
+    vmax, amax : float
+        Joint speed and acceleration limits for ``kind="joint"``.
+    k : int
+        Candidate list length.
+    """
+
+    def __init__(self, xy, partner, order, start=None, kind="euclidean",
+                 vmax=1.0, amax=1.0, k=8):
+        xy = np.asarray(xy, dtype=float)
+        n = len(xy)
+        self.n = n
+        self.S, self.D = n, n + 1
+        self.M = n + 2
+        self.kind = kind
+        self.k = k
+        self.xs = xy[:, 0].tolist()
+        self.ys = xy[:, 1].tolist()
+        self.partner = list(np.asarray(partner, dtype=np.int64).tolist()) + [n + 1, n]
+        self.has_start = start is not None
+        self.start = (0.0, 0.0) if start is None else (float(start[0]), float(start[1]))
+        self.vmax, self.amax = float(vmax), float(amax)
+        self.tour = [self.S] + list(order) + [self.D]
+        self.pos = [0] * self.M
+        for i, v in enumerate(self.tour):
+            self.pos[v] = i
+        self._build_dist()
+        self.neigh = self._neighbours(np.arange(n))
+        self.cost = self._tour_cost()
+        self.work = 0
+
+    # -- distances ---------------------------------------------------------
+    def _build_dist(self):
+        xs, ys, n, S, D = self.xs, self.ys, self.n, self.S, self.D
+        has_start = self.has_start
+        sx, sy = self.start
+        hypot, sqrt = math.hypot, math.sqrt
+        if self.kind == "euclidean":
+            def base(dx, dy):
+                return hypot(dx, dy)
+        else:
+            v, a = self.vmax, self.amax
+            knee = v * v / a
+            inv_v, v_over_a = 1.0 / v, v / a
+
+            def base(dx, dy):
+                d = max(abs(dx), abs(dy))
+                return d * inv_v + v_over_a if d > knee else 2.0 * sqrt(d / a)
+
+        if self.kind == "euclidean":
+            def dist(u, w):
+                if u < n and w < n:
+                    return hypot(xs[u] - xs[w], ys[u] - ys[w])
+                if u == D or w == D or not has_start:
+                    return 0.0
+                if u == S:
+                    u = w
+                return hypot(xs[u] - sx, ys[u] - sy)
+        else:
+            def dist(u, w):
+                if u < n and w < n:
+                    return base(xs[u] - xs[w], ys[u] - ys[w])
+                if u == D or w == D or not has_start:
+                    return 0.0
+                if u == S:
+                    u = w
+                return base(xs[u] - sx, ys[u] - sy)
+        self.dist = dist
+
+    def _neighbours(self, nodes):
+        """Candidate lists (sorted nearest first) for ``nodes``."""
+        n = self.n
+        if n < 2:
+            return [[] for _ in range(n)]
+        xy = np.column_stack([self.xs, self.ys])
+        p = 2 if self.kind == "euclidean" else np.inf
+        tree = cKDTree(xy)
+        kq = min(self.k + 2, n)
+        _, idx = tree.query(xy[nodes], k=kq, p=p)
+        idx = np.atleast_2d(idx)
+        partner = np.asarray(self.partner[:n])
+        nodes = np.asarray(nodes)
+        keep = (idx != nodes[:, None]) & (idx != partner[nodes][:, None]) & (idx < n)
+        rows = idx.tolist()
+        kp = keep.tolist()
+        k = self.k
+        out = [[v for v, ok in zip(r, m) if ok][:k] for r, m in zip(rows, kp)]
+        if len(nodes) == n:
+            return out
+        for v, lst in zip(nodes.tolist(), out):
+            self.neigh[v] = lst
+        return self.neigh
+
+    def set_xy(self, nodes, xy):
+        """Move ``nodes`` to new coordinates and refresh candidate lists."""
+        for v, (x, y) in zip(nodes, np.asarray(xy, float).reshape(-1, 2).tolist()):
+            self.xs[v], self.ys[v] = x, y
+        self.neigh = self._neighbours(np.arange(self.n))
+        self.cost = self._tour_cost()
+
+    def _tour_cost(self):
+        t, p, dist = self.tour, self.partner, self.dist
+        M = self.M
+        c = 0.0
+        for i in range(M):
+            u, w = t[i], t[(i + 1) % M]
+            if p[u] != w:
+                c += dist(u, w)
+        return c
+
+    # -- array primitives --------------------------------------------------
+    def _read(self, i, L):
+        t, M = self.tour, self.M
+        if i + L <= M:
+            return t[i:i + L]
+        return t[i:] + t[:i + L - M]
+
+    def _write(self, i, vals):
+        t, pos, M = self.tour, self.pos, self.M
+        L = len(vals)
+        if i + L <= M:
+            t[i:i + L] = vals
+            for k, v in enumerate(vals, i):
+                pos[v] = k
+        else:
+            cut = M - i
+            t[i:] = vals[:cut]
+            t[:L - cut] = vals[cut:]
+            for k, v in enumerate(vals[:cut], i):
+                pos[v] = k
+            for k, v in enumerate(vals[cut:]):
+                pos[v] = k
+        self.work += L >> 4
+
+    def _reverse(self, i, j):
+        """Reverse forward positions i..j (cyclic, inclusive), shorter side."""
+        M = self.M
+        L = (j - i) % M + 1
+        if 2 * L > M:
+            i, j, L = (j + 1) % M, (i - 1) % M, M - L
+        if L < 2:
+            return
+        seg = self._read(i, L)
+        seg.reverse()
+        self._write(i, seg)
+
+    def _move_segment(self, i, L, q, a, c):
+        """Move the segment at forward positions i..i+L-1 into gap (q, q+1).
+
+        Afterwards node ``a`` (an end of the segment) is next to node ``c``
+        (one side of the gap).
+        """
+        M = self.M
+        seg = self._read(i, L)
+        if (self.tour[q] == c) != (seg[0] == a):
+            seg.reverse()
+        j = (i + L - 1) % M
+        nb = (q - j) % M
+        nb2 = M - L - nb
+        if nb <= nb2:
+            self._write(i, self._read((j + 1) % M, nb) + seg)
+        else:
+            q1 = (q + 1) % M
+            self._write(q1, seg + self._read(q1, nb2))
+
+    # -- local search ------------------------------------------------------
+    def run(self, active=None, work_limit=math.inf, deadline=math.inf):
+        """2-opt and Or-opt from the active nodes until no move improves."""
+        tour, pos, partner, neigh, dist = self.tour, self.pos, self.partner, self.neigh, self.dist
+        M, n = self.M, self.n
+        if M < 5:
+            return
+        queue = deque(range(n) if active is None else active)
+        inq = bytearray(M)
+        for v in queue:
+            inq[v] = 1
+        clock = time.perf_counter
+        tick = 0
+        while queue:
+            a = queue.popleft()
+            inq[a] = 0
+            self.work += 1
+            tick += 1
+            if tick & 255 == 0 and (self.work > work_limit or clock() > deadline):
+                break
+            touched = self._improve_node(a, tour, pos, partner, neigh, dist, M)
+            if touched:
+                for v in touched:
+                    if v < n and not inq[v]:
+                        inq[v] = 1
+                        queue.append(v)
+                if not inq[a]:
+                    inq[a] = 1
+                    queue.append(a)
+
+    def _improve_node(self, a, tour, pos, partner, neigh, dist, M):
+        pa = pos[a]
+        na = neigh[a]
+        for sdir in (1, -1):
+            b = tour[(pa + sdir) % M]
+            if partner[a] == b:
+                continue
+            dab = dist(a, b)
+            # 2-opt: remove (a, b) and (c, d), add (a, c) and (b, d).
+            for c in na:
+                dac = dist(a, c)
+                if dac >= dab:
+                    break
+                pc = pos[c]
+                d = tour[(pc + sdir) % M]
+                if d == a or partner[c] == d:
+                    continue
+                delta = dab + dist(c, d) - dac - dist(b, d)
+                if delta > _EPS:
+                    if sdir == 1:
+                        self._reverse(pa + 1 if pa + 1 < M else 0, pc)
+                    else:
+                        self._reverse(pc, pa - 1 if pa else M - 1)
+                    self.cost -= delta
+                    return (a, b, c, d)
+            # Or-opt: the chain starting at a, running away from b.
+            seg = []
+            cur = a
+            pcur = pa
+            for _ in range(3):
+                seg.append(cur)
+                pp = partner[cur]
+                if pp != cur:
+                    seg.append(pp)
+                    pcur = pos[pp]
+                e = seg[-1]
+                nxt = tour[(pcur - sdir) % M]
+                if len(seg) + 2 > M or nxt == b:
+                    break
+                g1 = dab + dist(e, nxt) - dist(b, nxt)
+                if g1 > _EPS:
+                    for c in na:
+                        dac = dist(a, c)
+                        if dac >= g1:
+                            break
+                        if c in seg:
+                            continue
+                        pc = pos[c]
+                        for t in (1, -1):
+                            f = tour[(pc + t) % M]
+                            if partner[c] == f or f in seg:
+                                continue
+                            delta = g1 + dist(c, f) - dac - dist(e, f)
+                            if delta > _EPS:
+                                L = len(seg)
+                                i = pos[e] if sdir == 1 else pa
+                                q = pc if t == 1 else (pc - 1) % M
+                                self._move_segment(i, L, q, a, c)
+                                self.cost -= delta
+                                return (a, b, e, nxt, c, f)
+                cur = nxt
+                pcur = pos[cur]
+        return None
+
+    # -- perturbation ------------------------------------------------------
+    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50):
+        """Iterated local search: random segment swaps kept when they pay."""
+        M, n = self.M, self.n
+        if n < 8:
+            return
+        partner = self.partner
+        best_cost = self.cost
+        best_tour, best_pos = self.tour[:], self.pos[:]
+        w = min(window, M - 2)
+        for _ in range(kicks):
+            if self.work > work_limit or time.perf_counter() > deadline:
+                break
+            tour = self.tour
+            p0 = int(rng.integers(M))
+            offs = np.sort(rng.choice(np.arange(1, w), size=2, replace=False))
+            cuts = [p0] + [(p0 + int(o)) % M for o in offs]
+            if any(partner[tour[c]] == tour[(c + 1) % M] for c in cuts):
+                continue
+            a0, b0 = tour[cuts[0]], tour[(cuts[0] + 1) % M]
+            a1, b1 = tour[cuts[1]], tour[(cuts[1] + 1) % M]
+            a2, b2 = tour[cuts[2]], tour[(cuts[2] + 1) % M]
+            dist = self.dist
+            # A B C E -> A C B E: swap the segments B = b0..a1 and C = b1..a2.
+            delta = (dist(a0, b0) + dist(a1, b1) + dist(a2, b2)
+                     - dist(a0, b1) - dist(a2, b0) - dist(a1, b2))
+            i = (cuts[0] + 1) % M
+            lb = (cuts[1] - cuts[0]) % M
+            lc = (cuts[2] - cuts[1]) % M
+            B = self._read(i, lb)
+            C = self._read((cuts[1] + 1) % M, lc)
+            self._write(i, C + B)
+            self.cost -= delta
+            self.work += 8
+            self.run([v for v in (a0, b0, a1, b1, a2, b2) if v < n], work_limit, deadline)
+            if self.cost < best_cost - _EPS:
+                best_cost = self.cost
+                best_tour[:] = self.tour
+                best_pos[:] = self.pos
+            else:
+                self.tour[:] = best_tour
+                self.pos[:] = best_pos
+                self.cost = best_cost
+            self.work += M >> 5
+
+    # -- result ------------------------------------------------------------
+    def path(self):
+        """The open path of real nodes, from the start end."""
+        t = np.asarray(self.tour)
+        ps = self.pos[self.S]
+        t = np.roll(t, -ps)
+        if t[1] == self.D:
+            t = np.roll(t[::-1], 1)
+        return t[1:-1]
