@@ -1,0 +1,6 @@
+"""Placement: scale, rotate and position a drawing in the arm's well-conditioned region."""
+
+from .place import DEFAULT_ROTATIONS, place_drawing, provisional_scale
+from .placement import Placement
+
+__all__ = ["place_drawing", "provisional_scale", "Placement", "DEFAULT_ROTATIONS"]
