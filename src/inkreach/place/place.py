@@ -107,7 +107,7 @@ def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margi
     >>> p = place_drawing(square, default_arm(), rotations=[0.0])
     >>> bool(default_arm().reachable(p.apply(square[0])).all())
     True
-    >>> np.linalg.det(p.matrix[:, :2]) < 0          # rows down -> y up
+    >>> p.flipped                                  # rows down -> y up
     True
     """
     if prefer not in ("largest", "isotropic"):
