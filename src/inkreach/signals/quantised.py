@@ -9,17 +9,20 @@ from .stepper import StepperSignals, reached_angles
 __all__ = ["quantised_angles"]
 
 
-def quantised_angles(stream, signals):
+def quantised_angles(stream, *signals):
     """Joint angles the motors reach when driven by the given signals.
 
     Parameters
     ----------
     stream : JointStream
         The stream the signals were made from.
-    signals : StepperSignals or ServoSignals
+    *signals : StepperSignals, ServoSignals or dict of them
         Stepper positions (angles rounded to whole steps) or servo pulses
         (angles read back through the calibration table, so rounding the
-        pulses to whole microseconds shows).
+        pulses to whole microseconds shows). A dict as made by
+        :func:`make_signals` uses its stepper signals when present, else
+        its servo signals, else the stream's own angles. An arm given
+        before the signals is accepted and not needed.
 
     Returns
     -------
@@ -38,14 +41,18 @@ def quantised_angles(stream, signals):
     >>> np.rad2deg(quantised_angles(s, stepper_steps(s))).round(4).tolist()
     [[10.0125, 20.025]]
     """
-    if len(signals) != len(stream):
-        raise InkreachError(f"the signals hold {len(signals)} rows but the stream "
+    sig = signals[-1] if signals else None
+    if isinstance(sig, dict):
+        sig = sig.get("stepper", sig.get("servo"))
+    if sig is None:
+        return np.asarray(stream.q, dtype=float).copy()
+    if not isinstance(sig, (StepperSignals, ServoSignals)):
+        raise InkreachError("signals must come from stepper_steps or servo_pulses")
+    if len(sig) != len(stream):
+        raise InkreachError(f"the signals hold {len(sig)} rows but the stream "
                             f"{len(stream)}; make them from the same stream")
-    if isinstance(signals, StepperSignals):
-        return reached_angles(signals.steps, signals.config)
-    if isinstance(signals, ServoSignals):
-        cal = signals.calibration
-        p = np.asarray(signals.pulse_us, dtype=float)
-        deg = np.stack([cal.angle(0, p[:, 0]), cal.angle(1, p[:, 1])], axis=1)
-        return np.deg2rad(deg)
-    raise InkreachError("signals must come from stepper_steps or servo_pulses")
+    if isinstance(sig, StepperSignals):
+        return reached_angles(sig.steps, sig.config)
+    cal = sig.calibration
+    p = np.asarray(sig.pulse_us, dtype=float)
+    return np.deg2rad(np.stack([cal.angle(0, p[:, 0]), cal.angle(1, p[:, 1])], axis=1))

@@ -1,0 +1,15 @@
+"""Writers: plan.json, joints.csv, signal CSVs, previews and the firmware header."""
+
+from ._colour import conditioning_ramp, order_ramp
+from .files import atomic_write, png_bytes, write_files
+from .firmware import firmware_header
+from .planfile import PLAN_FORMAT, plan_json
+from .safety import SAFETY_TEXT
+from .simulate import pen_down_paths, simulated_png
+from .tables import JOINTS_HEADER, joints_csv, servo_csv, stepper_csv
+
+__all__ = [
+    "SAFETY_TEXT", "atomic_write", "write_files", "png_bytes", "plan_json", "PLAN_FORMAT",
+    "joints_csv", "servo_csv", "stepper_csv", "JOINTS_HEADER", "firmware_header",
+    "simulated_png", "pen_down_paths", "order_ramp", "conditioning_ramp",
+]

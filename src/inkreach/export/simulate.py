@@ -1,0 +1,126 @@
+"""What the arm will really draw: the pen-down path at the pen's width."""
+
+import cv2
+import numpy as np
+from PIL import Image
+
+from ..errors import InkreachError
+
+__all__ = ["simulated_png", "pen_down_paths"]
+
+_MAX_SIDE_PX = 12000
+_SHIFT = 4  # sub-pixel bits for cv2 drawing
+
+
+def pen_down_paths(xy, pen):
+    """Split a sampled pen path into runs of consecutive pen-down rows.
+
+    Parameters
+    ----------
+    xy : array_like, shape (N, 2)
+        Pen positions, mm.
+    pen : array_like, shape (N,)
+        1 (or True) where the pen is on the paper.
+
+    Returns
+    -------
+    list of ndarray, each (M, 2)
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> xy = np.arange(12.0).reshape(6, 2)
+    >>> [p[:, 0].tolist() for p in pen_down_paths(xy, [0, 1, 1, 0, 1, 1])]
+    [[2.0, 4.0], [8.0, 10.0]]
+    """
+    xy = np.asarray(xy, dtype=float)
+    down = np.asarray(pen) != 0
+    if len(xy) != len(down):
+        raise InkreachError("pen flags and positions differ in rows; pass them from one stream")
+    edges = np.diff(np.concatenate([[0], down.astype(np.int8), [0]]))
+    starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    return [xy[a:b] for a, b in zip(starts, ends)]
+
+
+def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=8, bounds=None):
+    """Render the pen-down path at the pen's width, as the paper will show it.
+
+    Call either ``simulated_png(paths, pen_width_mm)`` with a list of
+    pen-down polylines, or ``simulated_png(xy, pen, pen_width_mm)`` with a
+    stream's positions and pen flags (pass the forward kinematics of the
+    angles the motors really reach, see :func:`inkreach.signals.quantised_angles`).
+
+    Parameters
+    ----------
+    paths : list of array_like (M, 2), or array_like (N, 2)
+        Pen-down polylines in arm mm, or sampled positions with ``pen``.
+    pen : array_like (N,) or float
+        Pen flags for sampled positions; or the pen width when ``paths`` is
+        a list of polylines.
+    pen_width_mm : float
+        Width of the inked line, mm.
+    px_per_mm : float
+        Resolution.
+    bounds : tuple, optional
+        ``(xmin, xmax, ymin, ymax)`` in mm; by default the paths' box plus a
+        margin.
+
+    Returns
+    -------
+    PIL.Image.Image
+        Greyscale ("L"), white paper, black ink, +y up.
+
+    References
+    ----------
+    .. [1] OpenCV documentation, "Drawing Functions": ``cv2.polylines`` with
+       ``LINE_AA`` (anti-aliased lines of a given thickness).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> img = simulated_png([np.array([[0.0, 0.0], [10.0, 0.0]])], 1.0, px_per_mm=4)
+    >>> img.mode, img.size
+    ('L', (64, 24))
+    """
+    if pen_width_mm is None:
+        if pen is None or np.ndim(pen) != 0:
+            raise InkreachError("give the pen width in mm")
+        pen_width_mm, segs = float(pen), [np.asarray(p, float).reshape(-1, 2) for p in paths]
+    else:
+        segs = pen_down_paths(paths, pen)
+    w_mm = float(pen_width_mm)
+    if not np.isfinite(w_mm) or w_mm <= 0:
+        raise InkreachError("the pen width must be greater than zero mm")
+    segs = [s[np.all(np.isfinite(s), axis=1)] for s in segs]
+    segs = [s for s in segs if len(s)]
+    if bounds is None:
+        if segs:
+            allp = np.concatenate(segs)
+            lo, hi = allp.min(0), allp.max(0)
+        else:
+            lo, hi = np.zeros(2), np.ones(2)
+        m = 2.0 + w_mm
+        bounds = (lo[0] - m, hi[0] + m, lo[1] - m, hi[1] + m)
+    x0, x1, y0, y1 = (float(b) for b in bounds)
+    W = int(np.ceil((x1 - x0) * px_per_mm))
+    H = int(np.ceil((y1 - y0) * px_per_mm))
+    if W < 1 or H < 1:
+        raise InkreachError("the simulated picture's bounds are empty; give xmin < xmax and "
+                            "ymin < ymax")
+    if max(W, H) > _MAX_SIDE_PX:
+        raise InkreachError(f"the simulated picture would be {W} x {H} px; lower px_per_mm")
+    canvas = np.full((H, W), 255, np.uint8)
+    thick = max(1, int(round(w_mm * px_per_mm)))
+    scale = float(px_per_mm) * (1 << _SHIFT)
+    polys = []
+    for s in segs:
+        if len(s) == 1:
+            s = np.repeat(s, 2, axis=0)  # a dot: a zero-length line with round ends
+        px = np.empty_like(s)
+        px[:, 0] = (s[:, 0] - x0) * scale
+        px[:, 1] = (y1 - s[:, 1]) * scale  # +y up on the page
+        polys.append(np.rint(px).astype(np.int32).reshape(-1, 1, 2))
+    if polys:
+        cv2.polylines(canvas, polys, False, 0, thickness=thick, lineType=cv2.LINE_AA,
+                      shift=_SHIFT)
+    return Image.fromarray(canvas)
