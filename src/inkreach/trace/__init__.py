@@ -1,12 +1,25 @@
-"""Pictures to pen strokes: loading, and the drawing styles."""
+"""Pictures to pen strokes: loading, and the drawing styles.
 
+Strokes are lists of float arrays of shape (N, 2) in working-image pixels,
+x = column, y = row, pixel centres at whole numbers.
+"""
+
+from .centerline import centerline
+from .contour import contour
 from .graph import trace_skeleton, trail_decomposition
+from .hatch import hatch
 from .load import Picture, load_image
+from .outline import outline, outline_edges
+from .render import render_strokes
 from .simplify import polyline_lengths, simplify_polylines
 from .srgb import linear_to_srgb, srgb_to_linear
+from .stipple import stipple
+from .styles import STYLES, style_options, trace
 
 __all__ = [
-    "Picture", "load_image", "srgb_to_linear", "linear_to_srgb",
-    "trace_skeleton", "trail_decomposition", "simplify_polylines",
-    "polyline_lengths",
+    "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
+    "trace", "STYLES", "style_options",
+    "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
+    "trace_skeleton", "trail_decomposition", "render_strokes",
+    "simplify_polylines", "polyline_lengths",
 ]

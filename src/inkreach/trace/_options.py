@@ -108,6 +108,8 @@ OPTIONS = {
         "mode": ("dots", "'dots' lifts the pen at every dot, 'line' joins them in one path",
                  _Choice("dots", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),
+        "contrast": (2.0, "1 follows the tone exactly; higher sets dark parts further apart "
+                          "from light ones", _Number(0.1, 10.0)),
     },
     "contour": {
         "pen_px": _PEN,

@@ -1,0 +1,82 @@
+"""The registry of drawing styles and one checked way to call them."""
+
+from ..errors import InkreachError
+from . import _options
+from .centerline import centerline
+from .contour import contour
+from .hatch import hatch
+from .outline import outline
+from .stipple import stipple
+
+__all__ = ["STYLES", "trace", "style_options"]
+
+STYLES = {
+    "outline": outline,
+    "centerline": centerline,
+    "hatch": hatch,
+    "stipple": stipple,
+    "contour": contour,
+}
+
+
+def _check_style(style):
+    if style not in STYLES:
+        raise InkreachError(f"style {style!r} is unknown; use one of " + ", ".join(STYLES))
+
+
+def style_options(style):
+    """Options of a style with their defaults and a one-line help.
+
+    Parameters
+    ----------
+    style : str
+        A key of `STYLES`.
+
+    Returns
+    -------
+    dict
+        option name -> ``(default, help text)``.
+
+    Examples
+    --------
+    >>> style_options("contour")["levels"][0]
+    6
+    """
+    _check_style(style)
+    return {k: (v[0], v[1]) for k, v in _options.OPTIONS[style].items()}
+
+
+def trace(lum, style="outline", **options):
+    """Turn a picture into pen strokes in one of the styles.
+
+    Parameters
+    ----------
+    lum : ndarray, shape (H, W), or Picture
+        Linear luminance in [0, 1] (1 = white paper).
+    style : str, optional
+        One of ``outline``, ``centerline``, ``hatch``, ``stipple``,
+        ``contour``.
+    **options
+        The style's options, see `style_options`.
+
+    Returns
+    -------
+    list of ndarray, shape (N, 2)
+        Strokes in working pixels, x = column, y = row.
+
+    Raises
+    ------
+    InkreachError
+        For an unknown style or option, a value out of range, or a picture
+        with nothing to draw.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> lum = np.ones((50, 50), np.float32); lum[10:40, 10:40] = 0.1
+    >>> len(trace(lum, "outline"))
+    1
+    """
+    _check_style(style)
+    _options.check(style, options)
+    return STYLES[style](lum, **options)
