@@ -1,3 +1,10 @@
-from .stream import JointStream
+"""Motion: chord subdivision, timing, the joint stream and its safety check."""
 
-__all__ = ["JointStream"]
+from .check import StreamReport, check_stream
+from .plan import plan_motion
+from .stream import JointStream
+from .subdivide import subdivide
+from .timing import trapezoid_time
+
+__all__ = ["JointStream", "plan_motion", "check_stream", "StreamReport", "trapezoid_time",
+           "subdivide"]

@@ -1,0 +1,320 @@
+"""The last word before the motors: an independent check of a finished stream."""
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.spatial import cKDTree
+
+from ..errors import InkreachError
+from .subdivide import _point_segment_distance
+
+__all__ = ["StreamReport", "check_stream"]
+
+_ANGLE_TOL = 1e-8       # rad: room for angles printed with 6 decimals of a degree
+_REL_TOL = 1e-9
+# Planning headroom so the stream still passes after its angles are rounded to
+# 1e-4 degree: the first difference moves by at most 1e-4 deg, the second by 2e-4.
+_ROUND_DEG = 1e-4
+
+
+@dataclass(frozen=True)
+class StreamReport:
+    """Figures of a stream that passed :func:`check_stream`.
+
+    Attributes
+    ----------
+    rows : int
+        Number of rows.
+    duration : float
+        Time of the last row, seconds.
+    period : float
+        Sample period, seconds.
+    max_speed_deg_s : tuple of float
+        Largest finite-difference speed of (theta1, theta2), deg/s.
+    max_accel_deg_s2 : tuple of float
+        Largest second-difference acceleration of (theta1, theta2), deg/s^2.
+    min_conditioning : float
+        Lowest conditioning over all rows.
+    max_deviation_mm : float
+        Largest distance of a pen-down row, or of the joint-space midpoint of
+        two consecutive pen-down rows, from its stroke (NaN when no strokes
+        were given).
+    pen_down_rows : int
+        Rows with the pen on the paper.
+    """
+
+    rows: int
+    duration: float
+    period: float
+    max_speed_deg_s: tuple
+    max_accel_deg_s2: tuple
+    min_conditioning: float
+    max_deviation_mm: float
+    pen_down_rows: int
+
+
+def _where(k, period):
+    return f"row {k} (t = {k * period:.2f} s)"
+
+
+def _fail(msg):
+    raise InkreachError(msg)
+
+
+def stream_violations(q, period, arm):
+    """Rows involved in a finite-difference speed or acceleration beyond the limits.
+
+    The limits are tightened by what rounding the angles to 1e-4 degree can
+    add, so a stream without violations still passes after being written.
+
+    Returns
+    -------
+    ndarray of int
+        Sorted row indices (empty when everything is within the limits).
+    """
+    lim = arm.limits
+    r = np.deg2rad(_ROUND_DEG)
+    vlim = lim.max_speed - r / period
+    alim = lim.max_accel - 2 * r / period ** 2
+    if len(q) < 2:
+        return np.zeros(0, int)
+    v = np.abs(np.diff(q, axis=0)).max(axis=1) / period
+    rows = [np.flatnonzero(v > vlim)]
+    rows.append(rows[0] + 1)
+    if len(q) > 2:
+        a = np.abs(np.diff(q, n=2, axis=0)).max(axis=1) / period ** 2
+        ka = np.flatnonzero(a > alim)
+        rows += [ka, ka + 1, ka + 2]
+    return np.unique(np.concatenate(rows))
+
+
+def _stroke_labels(pen):
+    """Stroke index of each pen-down row, counting runs of pen-down rows."""
+    down = pen == 1
+    starts = down & ~np.concatenate([[False], down[:-1]])
+    lab = np.cumsum(starts) - 1
+    return np.where(down, lab, -1)
+
+
+def _distance_to_strokes(x, lab, strokes, chord_tol):
+    """Distance of points ``x`` to stroke ``lab`` (upper bound, exact in practice).
+
+    Strokes are cut into pieces no longer than ``4 * chord_tol``; a k-d tree
+    over the piece midpoints, with the stroke index as a far-apart third
+    coordinate, gives each point's nearest candidate pieces of its own stroke,
+    and the exact point-to-segment distance to those is taken.
+    """
+    h = 4.0 * chord_tol
+    a_list, b_list, id_list = [], [], []
+    for i, s in enumerate(strokes):
+        s = np.asarray(s, dtype=float)
+        if len(s) == 1:
+            a_list.append(s)
+            b_list.append(s)
+            id_list.append(np.full(1, i))
+            continue
+        seg = np.hypot(*np.diff(s, axis=0).T)
+        m = np.maximum(1, np.ceil(seg / h).astype(int))
+        which = np.repeat(np.arange(len(seg)), m)
+        k = np.arange(m.sum()) - np.repeat(np.cumsum(m) - m, m)
+        u0 = (k / m[which])[:, None]
+        u1 = ((k + 1) / m[which])[:, None]
+        d = s[1:] - s[:-1]
+        a_list.append(s[which] + u0 * d[which])
+        b_list.append(s[which] + u1 * d[which])
+        id_list.append(np.full(len(which), i))
+    A = np.concatenate(a_list)
+    B = np.concatenate(b_list)
+    sid = np.concatenate(id_list)
+    big = 1e7
+    tree = cKDTree(np.column_stack([0.5 * (A + B), sid * big]))
+    k = min(8, len(A))
+    _, idx = tree.query(np.column_stack([x, lab * big]), k=k)
+    idx = idx.reshape(len(x), k)
+    dist = _point_segment_distance(x[:, None, :], A[idx], B[idx])
+    dist = np.where(sid[idx] == lab[:, None], dist, np.inf)
+    return dist.min(axis=1)
+
+
+def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
+    """Check a finished joint stream against every limit of the arm.
+
+    Independent of how the stream was made: forward kinematics of every row
+    must exist and match its ``xy``; every row must lie inside the joint
+    limits and at or above the conditioning floor; finite-difference speeds
+    ``|dq| / period`` and accelerations ``|d2q| / period**2`` must stay within
+    the limits; the periods must be constant; and, when ``strokes`` are
+    given, every pen-down row and the joint-space midpoint of every two
+    consecutive pen-down rows must lie within ``chord_tol`` of its stroke,
+    and each stroke must start and end exactly at a row.
+
+    Parameters
+    ----------
+    stream : JointStream
+    arm : FiveBar or SerialArm
+    strokes : list of array_like, optional
+        The strokes in arm mm, in drawing order. ``stream.stroke`` names the
+        stroke of each pen-down row; when it is None, the n-th run of
+        pen-down rows is taken to be stroke n.
+    chord_tol : float
+        Largest allowed distance from a stroke, mm.
+    atol : float
+        Tolerance on positions that must be exact (``xy`` against forward
+        kinematics, stroke ends), mm.
+
+    Returns
+    -------
+    StreamReport
+
+    Raises
+    ------
+    InkreachError
+        On the first broken rule, naming the row, its time, the limit and
+        what to do.
+
+    References
+    ----------
+    .. [1] J. J. Craig, *Introduction to Robotics: Mechanics and Control*,
+       3rd ed., Pearson, 2005, chapter 7 (joint-space trajectories and their
+       speed and acceleration limits).
+    .. [2] C. Gosselin and J. Angeles, "Singularity analysis of closed-loop
+       kinematic chains", IEEE Trans. Robotics and Automation 6(3), 1990.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from inkreach.arms import default_arm
+    >>> from inkreach.motion import plan_motion
+    >>> arm = default_arm()
+    >>> line = [np.array([[-20.0, 150.0], [20.0, 150.0]])]
+    >>> report = check_stream(plan_motion(line, arm), arm, strokes=line)
+    >>> report.max_deviation_mm <= 0.05
+    True
+    """
+    q = np.asarray(stream.q, dtype=float)
+    t = np.asarray(stream.t, dtype=float)
+    pen = np.asarray(stream.pen)
+    xy = np.asarray(stream.xy, dtype=float)
+    T = float(stream.period)
+    N = len(t)
+    if N == 0:
+        _fail("the stream has no rows; plan the motion again")
+    if q.shape != (N, 2) or xy.shape != (N, 2) or pen.shape != (N,):
+        _fail(f"the stream's columns disagree in length (t {N}, q {q.shape}, pen "
+              f"{pen.shape}, xy {xy.shape}); rebuild it with plan_motion")
+    if not T > 0:
+        _fail(f"the stream's period is {T!r}; it must be greater than zero")
+    if not np.all(np.isin(pen, (0, 1))):
+        k = int(np.argmax(~np.isin(pen, (0, 1))))
+        _fail(f"{_where(k, T)}: pen is {pen[k]!r}; it must be 0 (lifted) or 1 (down)")
+    dt_err = np.abs(t - np.arange(N) * T)
+    if np.any(~(dt_err <= 1e-6 + 1e-9 * np.abs(t))):
+        k = int(np.argmax(~(dt_err <= 1e-6 + 1e-9 * np.abs(t))))
+        _fail(f"{_where(k, T)}: time {t[k]:.6f} s is off the fixed period {T:g} s; "
+              "the rows must be evenly spaced from t = 0")
+
+    lim = arm.limits
+    names = ("theta1", "theta2")
+    # Joint limits.
+    lo, hi = lim.lower - _ANGLE_TOL, lim.upper + _ANGLE_TOL
+    bad = ~((q >= lo) & (q <= hi))
+    if bad.any():
+        k, j = np.unravel_index(np.argmax(bad), bad.shape)
+        _fail(f"{_where(k, T)}: {names[j]} = {np.rad2deg(q[k, j]):.2f} deg is outside the "
+              f"limits [{np.rad2deg(lim.lower[j]):g}, {np.rad2deg(lim.upper[j]):g}] deg; "
+              "keep the drawing inside the usable region")
+    # Forward kinematics exists and matches.
+    x = arm.fk(q)
+    with np.errstate(invalid="ignore"):
+        err = np.hypot(*(x - xy).T)
+    if np.any(~np.isfinite(x).all(axis=1)):
+        k = int(np.argmax(~np.isfinite(x).all(axis=1)))
+        _fail(f"{_where(k, T)}: the linkage does not close at ({np.rad2deg(q[k, 0]):.2f}, "
+              f"{np.rad2deg(q[k, 1]):.2f}) deg; plan the motion again inside the usable region")
+    if np.any(~(err <= atol)):
+        k = int(np.argmax(~(err <= atol)))
+        _fail(f"{_where(k, T)}: x, y = ({xy[k, 0]:.4f}, {xy[k, 1]:.4f}) mm but the angles "
+              f"put the pen at ({x[k, 0]:.4f}, {x[k, 1]:.4f}) mm; rebuild xy from the angles")
+    # Conditioning.
+    c = arm.conditioning(q)
+    if np.any(~(c >= lim.min_conditioning - 1e-12)):
+        k = int(np.argmax(~(c >= lim.min_conditioning - 1e-12)))
+        _fail(f"{_where(k, T)}: conditioning {c[k]:.3f} is below the floor "
+              f"{lim.min_conditioning:g} (near a singularity); place the drawing in the "
+              "well-conditioned region")
+    # Speed and acceleration by finite differences.
+    vmax = lim.max_speed * (1 + _REL_TOL)
+    amax = lim.max_accel * (1 + _REL_TOL)
+    v = np.abs(np.diff(q, axis=0)) / T if N > 1 else np.zeros((0, 2))
+    a = np.abs(np.diff(q, n=2, axis=0)) / T ** 2 if N > 2 else np.zeros((0, 2))
+    if np.any(v > vmax):
+        k, j = np.unravel_index(np.argmax(v > vmax), v.shape)
+        _fail(f"{_where(k + 1, T)}: {names[j]} speed {np.rad2deg(v[k, j]):.1f} deg/s exceeds "
+              f"the limit {np.rad2deg(lim.max_speed):g} deg/s; lower tip_speed or margin and "
+              "plan again")
+    if np.any(a > amax):
+        k, j = np.unravel_index(np.argmax(a > amax), a.shape)
+        _fail(f"{_where(k + 1, T)}: {names[j]} acceleration {np.rad2deg(a[k, j]):.1f} deg/s^2 "
+              f"exceeds the limit {np.rad2deg(lim.max_accel):g} deg/s^2; lower margin and "
+              "plan again")
+
+    deviation = float("nan")
+    down = pen == 1
+    if strokes is not None:
+        S = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
+        lab = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
+        if np.any(down & ((lab < 0) | (lab >= len(S)))):
+            k = int(np.argmax(down & ((lab < 0) | (lab >= len(S)))))
+            _fail(f"{_where(k, T)}: the pen is down but the row belongs to no stroke "
+                  f"(stroke index {lab[k]}, {len(S)} strokes); plan the motion again")
+        present = np.zeros(len(S), bool)
+        present[lab[down]] = True
+        if not present.all():
+            i = int(np.argmin(present))
+            _fail(f"stroke {i} is never drawn (no pen-down row); plan the motion again")
+        deviation = 0.0
+        kd = np.flatnonzero(down)
+        if kd.size:
+            pair = kd[:-1][(np.diff(kd) == 1) & (lab[kd[1:]] == lab[kd[:-1]])]
+            xm = arm.fk(0.5 * (q[pair] + q[pair + 1]))
+            pts = np.concatenate([x[kd], xm])
+            plab = np.concatenate([lab[kd], lab[pair]])
+            prow = np.concatenate([kd, pair])
+            dist = _distance_to_strokes(pts, plab, S, chord_tol)
+            worst = int(np.argmax(dist))
+            deviation = float(dist[worst])
+            if not deviation <= chord_tol:
+                k = int(prow[worst])
+                what = "the pen" if worst < kd.size else "the pen between this row and the next"
+                _fail(f"{_where(k, T)}: {what} is {deviation:.3f} mm off stroke {lab[k]}, more "
+                      f"than chord_tol {chord_tol:g} mm; plan the motion again")
+            # Exact touch-down and lift.
+            first = np.full(len(S), -1)
+            last = np.full(len(S), -1)
+            order = np.argsort(lab[kd], kind="stable")
+            ks, ls = kd[order], lab[kd][order]
+            bnd = np.flatnonzero(np.diff(np.concatenate([[-1], ls])))
+            first[ls[bnd]] = ks[bnd]
+            bnd_end = np.concatenate([bnd[1:] - 1, [len(ls) - 1]])
+            last[ls[bnd_end]] = ks[bnd_end]
+            want0 = np.array([s[0] for s in S])
+            want1 = np.array([s[-1] for s in S])
+            e0 = np.hypot(*(x[first] - want0).T)
+            e1 = np.hypot(*(x[last] - want1).T)
+            if np.any(~(e0 <= atol)):
+                i = int(np.argmax(~(e0 <= atol)))
+                _fail(f"{_where(int(first[i]), T)}: the pen touches down {e0[i]:.4f} mm from "
+                      f"the start of stroke {i}; plan the motion again")
+            if np.any(~(e1 <= atol)):
+                i = int(np.argmax(~(e1 <= atol)))
+                _fail(f"{_where(int(last[i]), T)}: the pen lifts {e1[i]:.4f} mm from the end "
+                      f"of stroke {i}; plan the motion again")
+
+    return StreamReport(
+        rows=N, duration=float(t[-1]), period=T,
+        max_speed_deg_s=tuple(float(u) for u in np.rad2deg(v.max(axis=0) if len(v) else
+                                                           np.zeros(2))),
+        max_accel_deg_s2=tuple(float(u) for u in np.rad2deg(a.max(axis=0) if len(a) else
+                                                            np.zeros(2))),
+        min_conditioning=float(c.min()), max_deviation_mm=deviation,
+        pen_down_rows=int(down.sum()))

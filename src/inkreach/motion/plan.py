@@ -1,0 +1,467 @@
+"""From ordered strokes in arm mm to a timed, checked joint stream."""
+
+import numpy as np
+
+from ..errors import InkreachError
+from .check import check_stream, stream_violations
+from .stream import JointStream
+from .subdivide import _reachable_q, _subdivide_many
+from .timing import forward_backward, position_in_segment, segment_profiles
+
+__all__ = ["plan_motion"]
+
+_TRAVEL_JOINT, _TRAVEL_CART, _DWELL, _STROKE = 0, 1, 2, 3
+_CHECK_STEP = np.deg2rad(0.25)   # joint step when probing a pen-up joint-space move
+_LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
+_NORMAL_SHARE = 0.5              # share of the acceleration budget spent turning corners
+_PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
+_CORNER_SHARE = 0.4              # share of chord_tol a corner may be cut between two rows
+_STOP_BELOW = 0.25               # stop at a corner that would need less than this x tip speed
+_SLOWDOWN = 0.85
+_MAX_REPAIRS = 60
+
+
+def _as_strokes(strokes):
+    out = []
+    for i, s in enumerate(strokes):
+        a = np.asarray(s, dtype=float)
+        if a.ndim != 2 or a.shape[1] != 2 or len(a) == 0:
+            raise InkreachError(f"stroke {i} must be an (N, 2) array of points in mm with "
+                                f"N >= 1, got shape {a.shape}")
+        if not np.all(np.isfinite(a)):
+            raise InkreachError(f"stroke {i} has NaN or infinite coordinates; drop those points")
+        keep = np.ones(len(a), bool)
+        keep[1:] = np.any(np.diff(a, axis=0) != 0, axis=1)
+        out.append(a[keep])
+    return out
+
+
+def _posture(arm, q, what):
+    q = np.asarray(q, dtype=float).reshape(2)
+    ok = bool(arm.within_limits(q)) and bool(np.all(np.isfinite(arm.fk(q))))
+    c = float(arm.conditioning(q)) if ok else float("nan")
+    if not ok:
+        raise InkreachError(f"the {what} posture ({np.rad2deg(q[0]):.2f}, "
+                            f"{np.rad2deg(q[1]):.2f}) deg is outside the joint limits or "
+                            "does not assemble; give angles inside the limits")
+    if not c >= arm.limits.min_conditioning:
+        raise InkreachError(f"the {what} posture ({np.rad2deg(q[0]):.2f}, "
+                            f"{np.rad2deg(q[1]):.2f}) deg has conditioning {c:.3f}, below "
+                            f"the floor {arm.limits.min_conditioning:g}; pick a rest posture "
+                            "in the well-conditioned region")
+    return q
+
+
+def _inside_convex(region, p):
+    """True where points ``p`` (N, 2) lie in the convex polygon ``region``."""
+    R = np.asarray(region, dtype=float)
+    e = np.roll(R, -1, axis=0) - R
+    c = e[None, :, 0] * (p[:, None, 1] - R[None, :, 1]) - \
+        e[None, :, 1] * (p[:, None, 0] - R[None, :, 0])
+    tol = 1e-9 * max(1.0, float(np.abs(R).max()))
+    return np.all(c >= -tol, axis=1) | np.all(c <= tol, axis=1)
+
+
+def _joint_moves_ok(arm, qa, qb):
+    """For each pen-up move qa[i] -> qb[i], True if the joint-space line is usable."""
+    n = len(qa)
+    span = np.max(np.abs(qb - qa), axis=1)
+    counts = np.maximum(2, np.ceil(span / _CHECK_STEP).astype(int) + 1)
+    offs = np.concatenate([[0], np.cumsum(counts)[:-1]])
+    which = np.repeat(np.arange(n), counts)
+    u = (np.arange(counts.sum()) - offs[which]) / (counts[which] - 1)
+    q = qa[which] + u[:, None] * (qb - qa)[which]
+    with np.errstate(invalid="ignore"):
+        x = arm.fk(q)
+        back = arm.ik(x)
+        ok = arm.within_limits(q) & np.all(np.isfinite(x), axis=1)
+        ok &= np.all(np.abs(back - q) <= 1e-6, axis=1)
+        ok &= arm.conditioning(q) >= arm.limits.min_conditioning
+    return np.logical_and.reduceat(ok, offs)
+
+
+def _line_ok(arm, pa, pb):
+    n = max(2, int(np.ceil(np.hypot(*(pb - pa)) / _LINE_STEP)) + 1)
+    u = np.linspace(0.0, 1.0, n)[:, None]
+    _, ok = _reachable_q(arm, pa + u * (pb - pa))
+    return bool(np.all(ok))
+
+
+def _cartesian_moves(arm, qa, qb, region, chord_tol):
+    """Straight pen-up moves for the travels whose joint-space line is unsafe."""
+    pa, pb = arm.fk(qa), arm.fk(qb)
+    for i in range(len(qa)):
+        ends = np.stack([pa[i], pb[i]])
+        back = arm.ik(ends)
+        same = np.all(np.abs(back - np.stack([qa[i], qb[i]])) <= 1e-6)
+        inside = region is not None and bool(np.all(_inside_convex(region, ends)))
+        if not (same and (inside or _line_ok(arm, pa[i], pb[i]))):
+            raise InkreachError(
+                f"the pen-up move from ({pa[i, 0]:.1f}, {pa[i, 1]:.1f}) to ({pb[i, 0]:.1f}, "
+                f"{pb[i, 1]:.1f}) mm leaves the usable region both as a joint-space and as a "
+                "straight move; place the drawing in the well-conditioned region or change "
+                "the rest posture")
+    pts = np.empty((2 * len(qa), 2))
+    pts[0::2], pts[1::2] = pa, pb
+    active = np.zeros(len(pts) - 1, bool)
+    active[0::2] = True
+    P, Q, origin = _subdivide_many(pts, active, arm, chord_tol, "pen-up move")
+    pos = np.flatnonzero(origin >= 0)
+    out = []
+    for i in range(len(qa)):
+        a, b = pos[2 * i], pos[2 * i + 1]
+        Qi = Q[a:b + 1].copy()
+        Qi[0], Qi[-1] = qa[i], qb[i]
+        out.append((P[a:b + 1], Qi))
+    return out
+
+
+class _Path:
+    """All pieces (pen-up moves, dwells, strokes) of a drawing as one vertex list."""
+
+    def __init__(self, pieces):
+        # pieces: list of (kind, P or None, Q, pen, stroke)
+        sizes = np.array([len(p[2]) for p in pieces])
+        self.kind = np.array([p[0] for p in pieces])
+        self.pen = np.array([p[3] for p in pieces], dtype=np.int8)
+        self.stroke = np.array([p[4] for p in pieces])
+        self.Q = np.concatenate([p[2] for p in pieces])
+        self.P = np.concatenate([p[1] if p[1] is not None else np.full((len(p[2]), 2), np.nan)
+                                 for p in pieces])
+        self.first = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+        self.last = self.first + sizes - 1
+        self.vpiece = np.repeat(np.arange(len(pieces)), sizes)
+
+
+def _geometry(path, arm, margin, tip_speed):
+    """Per-segment lengths, joint tangents and base limits; per-vertex geometry."""
+    Q, P = path.Q, path.P
+    vk = path.kind[path.vpiece]
+    same = path.vpiece[1:] == path.vpiece[:-1]
+    dq = np.diff(Q, axis=0)
+    dp = np.diff(P, axis=0)
+    cart = same & (vk[:-1] != _TRAVEL_JOINT)
+    with np.errstate(invalid="ignore"):
+        length = np.where(cart, np.hypot(dp[:, 0], dp[:, 1]), np.hypot(dq[:, 0], dq[:, 1]))
+    length = np.where(same & np.isfinite(length), length, 0.0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        qp = np.where(length[:, None] > 0, dq / length[:, None], 0.0)
+    qpm = np.abs(qp).max(axis=1)
+    lim = arm.limits
+    with np.errstate(divide="ignore"):
+        vseg = np.where(qpm > 0, margin * lim.max_speed / qpm, np.inf)
+        acc = np.where(qpm > 0, margin * lim.max_accel / qpm, np.inf)
+    drawing = same & (vk[:-1] == _STROKE)
+    vseg = np.where(drawing, np.minimum(vseg, tip_speed), vseg)
+    return {"same": same, "dq": dq, "dp": dp, "length": length, "qp": qp,
+            "vseg": vseg, "acc": acc, "drawing": drawing}
+
+
+def _corner_speed(a, b, acc, period, chord_tol):
+    """Largest speed through a vertex without cutting it between two rows.
+
+    Two rows straddling a vertex where the path turns by ``th`` lie at most
+    ``(v + acc T) T`` apart when the vertex is passed at speed ``v``; the
+    chord between them misses the vertex by at most half that times
+    ``sin(th / 2)``. On a finely sampled curve the chord's sagitta bounds it
+    too. The result may be negative: the path must stop there.
+
+    Parameters
+    ----------
+    a, b : ndarray, shape (M, 2)
+        The segments before and after each vertex, mm.
+    acc : ndarray, shape (M,)
+        Largest path acceleration next to the vertex, mm/s^2.
+    """
+    la = np.hypot(a[:, 0], a[:, 1])
+    lb = np.hypot(b[:, 0], b[:, 1])
+    tol = _CORNER_SHARE * chord_tol
+    with np.errstate(divide="ignore", invalid="ignore"):
+        c = np.clip(np.einsum("ij,ij->i", a, b) / (la * lb), -1.0, 1.0)
+        th = np.arccos(c)
+        sbar = 0.5 * (la + lb)
+        vc = np.minimum(2 * tol / (period * np.sin(th / 2)) - acc * period,
+                        np.sqrt(8 * tol * sbar / th) / period)
+    return np.where(th > 1e-12, vc, np.inf)
+
+
+def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
+    """Interior vertices of a subdivided stroke where the pen should stop."""
+    if len(P) < 3:
+        return np.zeros(0, int)
+    dp = np.diff(P, axis=0)
+    dq = np.diff(Q, axis=0)
+    L = np.hypot(dp[:, 0], dp[:, 1])
+    qpm = np.abs(dq / L[:, None]).max(axis=1)
+    with np.errstate(divide="ignore"):
+        acc = margin * arm.limits.max_accel / qpm
+    at = np.maximum(acc[:-1], acc[1:])
+    vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
+    return np.flatnonzero(vc < _STOP_BELOW * tip_speed) + 1
+
+
+def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
+    """Squared speed cap of every vertex (0 at the ends of every piece)."""
+    K = len(path.Q)
+    cap = np.zeros(K)
+    inner = np.zeros(K, bool)
+    inner[1:-1] = g["same"][:-1] & g["same"][1:]
+    i = np.flatnonzero(inner)
+    if i.size:
+        fi = np.minimum(f[i - 1], f[i])
+        vs = np.minimum(g["vseg"][i - 1] * f[i - 1], g["vseg"][i] * f[i])
+        sbar = 0.5 * (g["length"][i - 1] + g["length"][i])
+        jump = np.abs(g["qp"][i] - g["qp"][i - 1]).max(axis=1)
+        an = _NORMAL_SHARE * margin * arm.limits.max_accel
+        with np.errstate(divide="ignore", invalid="ignore"):
+            vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
+                          np.inf)
+        vs = np.minimum(vs, vj * fi)
+        dr = g["drawing"][i - 1] & g["drawing"][i]
+        if np.any(dr):
+            at = np.maximum(g["acc"][i - 1] * f[i - 1] ** 2, g["acc"][i] * f[i] ** 2)
+            vc = _corner_speed(g["dp"][i - 1], g["dp"][i], at, period, chord_tol)
+            vs = np.where(dr, np.minimum(vs, vc), vs)
+        cap[i] = vs
+    return cap * cap
+
+
+def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
+    """Time every piece, stretch each to whole periods, sample the rows."""
+    cap2 = _vertex_caps(path, g, arm, margin, period, chord_tol, f)
+    vseg = g["vseg"] * f
+    acc = g["acc"] * f * f
+    with np.errstate(invalid="ignore"):
+        d = np.where(g["length"] > 0, 2 * acc * g["length"], 0.0)
+    w = forward_backward(cap2, d)
+    prof = segment_profiles(w, g["length"], vseg, np.where(np.isfinite(acc), acc, 1.0))
+    tv = np.concatenate([[0.0], np.cumsum(prof["dt"])])
+    t0 = tv[path.first]
+    dur = tv[path.last] - t0
+    n = np.where(dur > 0, np.ceil(dur / period - 1e-9), 0).astype(int)
+    dwell = path.kind == _DWELL
+    n[dwell] = n_dwell
+    with np.errstate(divide="ignore", invalid="ignore"):
+        r = np.where(n > 0, dur / (n * period), 0.0)
+    rp = np.repeat(np.arange(len(n)), n)
+    offs = np.concatenate([[0], np.cumsum(n)[:-1]])
+    k = np.arange(n.sum()) - offs[rp] + 1
+    tau = t0[rp] + k * period * r[rp]
+    seg = np.searchsorted(tv, tau, side="right") - 1
+    seg = np.clip(seg, path.first[rp], np.maximum(path.last[rp] - 1, path.first[rp]))
+    seg = np.clip(seg, 0, max(len(g["length"]) - 1, 0))
+    snap = (k == n[rp]) | dwell[rp]
+    if len(g["length"]):
+        u = position_in_segment(prof, seg, tau - tv[seg])
+        q = path.Q[seg] + u[:, None] * g["dq"][seg]
+    else:
+        q = np.repeat(path.Q[:1], len(rp), axis=0)
+    q[snap] = path.Q[path.last[rp[snap]]]
+    tau[dwell[rp]] = np.nan
+    q = np.concatenate([path.Q[:1], q])
+    pen = np.concatenate([[0], path.pen[rp]]).astype(np.int8)
+    stroke = np.concatenate([[-1], path.stroke[rp]])
+    tau = np.concatenate([[np.nan], tau])
+    return q, pen, stroke, tau, tv
+
+
+def _slow_down(f, tv, tau, rows, period):
+    """Scale down the limits of every segment near the offending rows."""
+    t = tau[rows]
+    t = t[np.isfinite(t)]
+    if t.size == 0:
+        return False
+    lo = np.searchsorted(tv[1:], t - 2 * period, side="left")
+    hi = np.searchsorted(tv[:-1], t + 2 * period, side="right")
+    mark = np.zeros(len(f) + 1, int)
+    np.add.at(mark, lo, 1)
+    np.add.at(mark, hi, -1)
+    sel = np.cumsum(mark)[:-1] > 0
+    if not np.any(sel):
+        return False
+    f[sel] *= _SLOWDOWN
+    return True
+
+
+def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
+                tip_speed=None, region=None, margin=0.97):
+    """Plan the joint stream that draws ordered strokes.
+
+    Pen-down moves follow the strokes: each is subdivided (:func:`subdivide`)
+    so joint-linear motion between samples stays within ``chord_tol`` of
+    the straight segments. Pen-up moves are straight in joint space where
+    every posture on the way is usable (inside the limits, assembling, at
+    or above the conditioning floor), otherwise straight in Cartesian space.
+    Every move, dwell and stroke starts and ends at rest; each is timed by a
+    forward-backward pass over its samples under per-joint speed and
+    acceleration limits (``margin`` times the arm's), a tip-speed limit
+    while drawing, and corner-speed limits (a sharp corner may not be cut
+    by more than half of ``chord_tol`` between two rows, and a change of
+    joint direction must fit in one period at the acceleration limit). Each
+    piece is stretched to a whole number of periods and sampled, so a
+    stroke's first and last points are exact rows. Stretches whose sampled
+    finite differences still break a limit are slowed down and re-timed.
+    The finished stream is checked by :func:`check_stream`.
+
+    Parameters
+    ----------
+    strokes : list of array_like, each (N, 2)
+        Ordered, oriented polylines in arm mm; a single point is a dot.
+    arm : FiveBar or SerialArm
+    start, end : array_like, shape (2,), optional
+        Rest posture before and after drawing, radians. By default
+        ``arm.home()``, or if that is None, the posture at the first
+        stroke's start.
+    chord_tol : float
+        Largest distance of the pen from a stroke while drawing, mm.
+    period : float
+        Sample period, seconds.
+    tip_speed : float, optional
+        Largest pen speed while drawing, mm/s (default 80).
+    region : array_like, shape (M, 2), optional
+        A convex polygon (mm) where straight pen-up moves are known to be
+        safe, e.g. the hull of the placed drawing.
+    margin : float
+        Fraction of the arm's speed and acceleration limits used when
+        planning, in (0, 1].
+
+    Returns
+    -------
+    JointStream
+
+    Raises
+    ------
+    InkreachError
+        If a stroke or a pen-up move cannot be carried out safely.
+
+    References
+    ----------
+    .. [1] J. E. Bobrow, S. Dubowsky and J. S. Gibson, "Time-optimal control
+       of robotic manipulators along specified paths", Int. J. Robotics
+       Research 4(3), 1985.
+    .. [2] R. H. Taylor, "Planning and execution of straight line
+       manipulator trajectories", IBM J. Research and Development 23(4),
+       1979.
+    .. [3] L. Biagiotti and C. Melchiorri, *Trajectory Planning for
+       Automatic Machines and Robots*, Springer, 2008.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from inkreach.arms import default_arm
+    >>> arm = default_arm()
+    >>> s = plan_motion([np.array([[-20.0, 150.0], [20.0, 150.0]])], arm)
+    >>> int(s.pen.max()), bool(np.allclose(s.xy[s.pen == 1][[0, -1]],
+    ...                                    [[-20, 150], [20, 150]]))
+    (1, True)
+    """
+    period = float(period)
+    if not period > 0:
+        raise InkreachError(f"period must be greater than zero, got {period!r}")
+    if not chord_tol > 0:
+        raise InkreachError(f"chord_tol must be greater than zero, got {chord_tol!r}")
+    if not 0 < margin <= 1:
+        raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 0.97 is usual")
+    tip_speed = 80.0 if tip_speed is None else float(tip_speed)
+    if not tip_speed > 0:
+        raise InkreachError(f"tip_speed must be greater than zero, got {tip_speed!r}")
+    if region is not None:
+        region = np.asarray(region, dtype=float)
+        if region.ndim != 2 or region.shape[1] != 2 or len(region) < 3:
+            raise InkreachError("region must be an (M, 2) convex polygon with M >= 3")
+
+    S = _as_strokes(strokes)
+    n = len(S)
+    firsts = np.array([s[0] for s in S]).reshape(-1, 2)
+    lasts = np.array([s[-1] for s in S]).reshape(-1, 2)
+
+    if n:
+        allp = np.concatenate(S)
+        _, ok = _reachable_q(arm, allp)
+        if not np.all(ok):
+            k = int(np.argmin(ok))
+            sid = np.repeat(np.arange(n), [len(s) for s in S])
+            j = k - int(np.searchsorted(sid, sid[k]))
+            raise InkreachError(
+                f"stroke {sid[k]}, point {j} at ({allp[k, 0]:.2f}, {allp[k, 1]:.2f}) mm cannot "
+                "be reached safely (outside the joint limits or the well-conditioned region); "
+                "place the drawing inside the usable region")
+    home = arm.home()
+    if home is None and n:
+        home = arm.ik(firsts[0])
+    if start is None:
+        start = home
+    if end is None:
+        end = home
+    if start is None or end is None:
+        raise InkreachError("nothing to draw and no rest posture; give start or set [home] "
+                            "in the arm file")
+    start = _posture(arm, start, "start")
+    end = _posture(arm, end, "end")
+
+    # Pen-down paths.
+    lines = [i for i in range(n) if len(S[i]) > 1]
+    sq_first = arm.ik(firsts) if n else np.zeros((0, 2))
+    sq_last = arm.ik(lasts) if n else np.zeros((0, 2))
+    drawn = {}
+    if lines:
+        pts = np.concatenate([S[i] for i in lines])
+        sizes = np.array([len(S[i]) for i in lines])
+        active = np.ones(len(pts) - 1, bool)
+        active[np.cumsum(sizes)[:-1] - 1] = False
+        P, Q, origin = _subdivide_many(pts, active, arm, _PATH_SHARE * chord_tol)
+        pos = np.flatnonzero(origin >= 0)
+        ends = np.cumsum(sizes)
+        begins = ends - sizes
+        for j, i in enumerate(lines):
+            a, b = pos[begins[j]], pos[ends[j] - 1]
+            drawn[i] = (P[a:b + 1], Q[a:b + 1])
+
+    # Pen-up moves.
+    qa = np.vstack([start[None], sq_last])
+    qb = np.vstack([sq_first, end[None]])
+    joint_ok = _joint_moves_ok(arm, qa, qb)
+    bad = np.flatnonzero(~joint_ok)
+    cart = dict(zip(bad, _cartesian_moves(arm, qa[bad], qb[bad], region,
+                                             _PATH_SHARE * chord_tol))) \
+        if bad.size else {}
+
+    def travel(i):
+        if i in cart:
+            P, Q = cart[i]
+            return (_TRAVEL_CART, P, Q, 0, -1)
+        return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1)
+
+    pieces = []
+    for i in range(n):
+        pieces.append(travel(i))
+        pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
+        if i in drawn:
+            P, Q = drawn[i]
+            cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed)
+            for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
+                pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
+        pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
+    pieces.append(travel(n))
+    path = _Path(pieces)
+    g = _geometry(path, arm, margin, tip_speed)
+    n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
+
+    f = np.ones(len(g["length"]))
+    for _ in range(_MAX_REPAIRS):
+        q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
+                                             n_dwell)
+        rows = stream_violations(q, period, arm)
+        if rows.size == 0:
+            break
+        if not _slow_down(f, tv, tau, rows, period):
+            break
+    else:
+        rows = stream_violations(q, period, arm)
+    if rows.size:
+        raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
+                            "within the joint limits; lower tip_speed or margin")
+    stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
+                         period=period, stroke=stroke)
+    check_stream(stream, arm, strokes=S, chord_tol=chord_tol)
+    return stream
