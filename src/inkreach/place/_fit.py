@@ -48,7 +48,7 @@ class _MaskFit:
         pts = np.round(k * (1 << _SHIFT)).astype(np.int32).reshape(-1, 1, 2)
         if len(poly) >= 3:
             cv2.fillPoly(K, [pts], 1, cv2.LINE_8, _SHIFT)
-        cv2.polylines(K, [pts], True, 1, cv2.LINE_8, _SHIFT)
+        cv2.polylines(K, [pts], True, 1, 1, cv2.LINE_8, _SHIFT)
         r = np.clip(np.round(k).astype(int), 0, [kw - 1, kh - 1])
         K[r[:, 1], r[:, 0]] = 1
         return K

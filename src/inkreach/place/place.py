@@ -157,6 +157,8 @@ def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margi
                            shrink=(size is None))
         except InkreachError as e:
             last_error = e
+    if size is None:
+        raise last_error
     raise InkreachError(
         f"a drawing {size:g} mm long does not pass the exact reachability check anywhere; "
         "try a smaller size") from last_error
