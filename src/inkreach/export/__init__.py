@@ -3,13 +3,16 @@
 from ._colour import conditioning_ramp, order_ramp
 from .files import atomic_write, png_bytes, write_files
 from .firmware import firmware_header
+from .picture import arm_map_png, preview_png
 from .planfile import PLAN_FORMAT, plan_json
 from .safety import SAFETY_TEXT
 from .simulate import pen_down_paths, simulated_png
+from .svg import preview_svg
 from .tables import JOINTS_HEADER, joints_csv, servo_csv, stepper_csv
 
 __all__ = [
     "SAFETY_TEXT", "atomic_write", "write_files", "png_bytes", "plan_json", "PLAN_FORMAT",
     "joints_csv", "servo_csv", "stepper_csv", "JOINTS_HEADER", "firmware_header",
-    "simulated_png", "pen_down_paths", "order_ramp", "conditioning_ramp",
+    "simulated_png", "pen_down_paths", "preview_svg", "preview_png", "arm_map_png",
+    "order_ramp", "conditioning_ramp",
 ]

@@ -1,0 +1,123 @@
+"""What the previews share: the arm's posture and links, outlines, bounds, figures."""
+
+import numpy as np
+from skimage import measure
+
+__all__ = []
+
+
+def as_strokes(strokes):
+    """Strokes as a list of finite (M, 2) float arrays (empty ones dropped)."""
+    out = []
+    for s in strokes or ():
+        a = np.asarray(s, dtype=float).reshape(-1, 2)
+        a = a[np.all(np.isfinite(a), axis=1)]
+        if len(a):
+            out.append(a)
+    return out
+
+
+def posture(arm, strokes=()):
+    """Joint angles to draw the arm in: home, else at the first stroke's start, else mid-range."""
+    q = arm.home()
+    if q is None and len(strokes):
+        q = np.asarray(arm.ik(strokes[0][0]), dtype=float)
+    if q is None or not np.all(np.isfinite(q)) or not np.all(np.isfinite(arm.fk(q))):
+        q = (arm.limits.lower + arm.limits.upper) / 2
+    return np.asarray(q, dtype=float)
+
+
+def linkage(arm, q):
+    """Link segments and motor positions of the arm at angles ``q``.
+
+    Returns
+    -------
+    links : list of ((2,), (2,)) pairs
+    motors : list of (2,) arrays
+    pen : (2,) array or None
+    """
+    j = {k: np.asarray(v, dtype=float)[0] for k, v in arm.joints(np.atleast_2d(q)).items()}
+    chain = [k for k in j if k != "pen"]
+    links = [(j[a], j[b]) for a, b in zip(chain[:-1], chain[1:])]
+    pen = j.get("pen")
+    if pen is not None:
+        anchor = "pen_joint" if "pen_joint" in j else chain[-1]
+        if np.hypot(*(pen - j[anchor])) > 1e-9:
+            links.append((j[anchor], pen))
+    motors = [j[k] for k in j if k.endswith("motor") or k == "shoulder"]
+    ok = all(np.all(np.isfinite(np.concatenate(s))) for s in links)
+    return (links if ok else []), motors, pen
+
+
+def outlines(wmap, mask=None):
+    """Boundary polylines (arm mm) of the usable region of a workspace map."""
+    m = wmap.usable if mask is None else mask
+    padded = np.pad(m.astype(float), 1)
+    out = []
+    for c in measure.find_contours(padded, 0.5):
+        rows, cols = c[:, 0] - 1, c[:, 1] - 1
+        out.append(np.stack([wmap.x[0] + cols * wmap.step, wmap.y[0] + rows * wmap.step], 1))
+    return out
+
+
+def bounds(groups, margin=0.06, minimum=10.0):
+    """(xmin, xmax, ymin, ymax) around every point of every array, with a margin."""
+    pts = [np.asarray(g, float).reshape(-1, 2) for g in groups if len(g)]
+    pts = [p[np.all(np.isfinite(p), axis=1)] for p in pts]
+    pts = [p for p in pts if len(p)]
+    if not pts:
+        return (-minimum, minimum, -minimum, minimum)
+    a = np.concatenate(pts)
+    lo, hi = a.min(0), a.max(0)
+    c, half = (lo + hi) / 2, np.maximum((hi - lo) / 2, minimum / 2)
+    half = half + margin * half.max()
+    return (c[0] - half[0], c[0] + half[0], c[1] - half[1], c[1] + half[1])
+
+
+def travel_moves(strokes, start=None):
+    """Straight pen-up moves between strokes (and from ``start``), as (K, 2, 2)."""
+    ends = [s[-1] for s in strokes[:-1]]
+    starts = [s[0] for s in strokes[1:]]
+    if start is not None and len(strokes):
+        ends.insert(0, np.asarray(start, float))
+        starts.insert(0, strokes[0][0])
+    if not ends:
+        return np.zeros((0, 2, 2))
+    return np.stack([np.array(ends), np.array(starts)], 1)
+
+
+def nice_length(span):
+    """A round length (1, 2 or 5 times a power of ten) near a fifth of ``span``."""
+    target = max(span / 5.0, 1e-9)
+    p = 10.0 ** np.floor(np.log10(target))
+    for m in (5.0, 2.0, 1.0):
+        if m * p <= target:
+            return m * p
+    return p
+
+
+def figure_lines(stats):
+    """Short lines of the plan's figures for a corner of a preview."""
+    if not stats:
+        return []
+    s = dict(stats)
+    lines = []
+
+    def num(k):
+        v = s.get(k)
+        return None if v is None else float(v)
+
+    if "strokes" in s:
+        lines.append(f"strokes {int(s['strokes'])}")
+    if "pen_lifts" in s:
+        lines.append(f"pen lifts {int(s['pen_lifts'])}")
+    if num("pen_down_mm") is not None:
+        lines.append(f"pen down {num('pen_down_mm') / 1000:.2f} m")
+    if num("pen_up_mm") is not None:
+        lines.append(f"pen up {num('pen_up_mm') / 1000:.2f} m")
+    if num("estimated_s") is not None:
+        t = num("estimated_s")
+        lines.append(f"time {int(t // 60)} min {t % 60:04.1f} s" if t >= 60 else f"time {t:.1f} s")
+    if num("min_conditioning") is not None and np.isfinite(num("min_conditioning")):
+        lines.append(f"worst conditioning {num('min_conditioning'):.2f}")
+    return lines
