@@ -33,7 +33,9 @@ def sheet_svg(arm, targets):
     ticks labelled every 10 mm along its edges, the arm frame's x and y
     axes through the origin, the motor axis positions, four square corner
     markers, and for each dot its number beside a thin ring around where
-    the nominal model expects it. Arm-frame y points up the page (away
+    the nominal model expects it. Elements carry classes (``tick-x``,
+    ``tick-y``, ``motor``, ``corner``, ``dot-ring``, ``dot-label``) so
+    programs can find them. Arm-frame y points up the page (away
     from the motors), so the sheet is read with the motors at the bottom.
     Print it at 100 % scale: the labelled ticks must measure 10 mm apart.
 
@@ -94,10 +96,10 @@ def sheet_svg(arm, targets):
     skip = _MARKER + 3.0
     for x in xs:
         if skip < X(x) < W - skip:
-            out.append(f'<text x="{X(x):g}" y="{H - 4:g}" text-anchor="middle">{x:g}</text>')
+            out.append(f'<text class="tick-x" x="{X(x):g}" y="{H - 4:g}" text-anchor="middle">{x:g}</text>')
     for y in ys:
         if skip < Y(y) < H - skip:
-            out.append(f'<text x="4" y="{Y(y) + 0.8:g}">{y:g}</text>')
+            out.append(f'<text class="tick-y" x="4" y="{Y(y) + 0.8:g}">{y:g}</text>')
     out.append("</g>")
     # the arm frame's axes through the origin, where the sheet shows them
     axes = []
@@ -112,7 +114,7 @@ def sheet_svg(arm, targets):
     # motors
     for label, (mx, my) in _motors(arm):
         cx, cy = X(mx), Y(my)
-        out.append(f'<g stroke="#b02020" stroke-width="0.25" fill="none">'
+        out.append(f'<g class="motor" stroke="#b02020" stroke-width="0.25" fill="none">'
                    f'<circle cx="{cx:g}" cy="{cy:g}" r="3"/>'
                    f'<path d="M{cx - 5:g} {cy:g}h10M{cx:g} {cy - 5:g}v10"/></g>')
         out.append(f'<text x="{cx + 4:g}" y="{cy - 4:g}" font-size="2.5" fill="#b02020">'
@@ -120,15 +122,16 @@ def sheet_svg(arm, targets):
     # corner markers
     for cx, cy in sheet_corners(arm, q):
         s = _MARKER
-        out.append(f'<rect x="{X(cx) - s / 2:g}" y="{Y(cy) - s / 2:g}" width="{s:g}" '
+        out.append(f'<rect class="corner" x="{X(cx) - s / 2:g}" y="{Y(cy) - s / 2:g}" width="{s:g}" '
                    f'height="{s:g}" fill="black"/>')
     # where each dot is expected, numbered in drawing order
     out.append('<g font-size="3" fill="#222">')
     for i, (dx, dy) in enumerate(dots, start=1):
         cx, cy = X(dx), Y(dy)
-        out.append(f'<circle cx="{cx:.3f}" cy="{cy:.3f}" r="{_RING:g}" fill="none" '
+        out.append(f'<circle class="dot-ring" cx="{cx:.3f}" cy="{cy:.3f}" r="{_RING:g}" fill="none" '
                    f'stroke="#777" stroke-width="0.15"/>')
-        out.append(f'<text x="{cx + _RING + 0.8:.3f}" y="{cy - _RING + 0.5:.3f}">{i}</text>')
+        out.append(f'<text class="dot-label" x="{cx + _RING + 0.8:.3f}" '
+                   f'y="{cy - _RING + 0.5:.3f}">{i}</text>')
     out.append("</g>")
     out.append(f'<text x="{skip + 2:g}" y="{skip:g}" font-size="3">{escape(arm.name)}: '
                f"{len(dots)} calibration dots. Print at 100 %; labelled ticks are 10 mm apart. "
