@@ -75,6 +75,25 @@ def test_score_improves_as_hatch_spacing_is_refined_on_a_grey_wedge():
     assert tone[-1] < 0.01 and ssim[-1] > 0.98
 
 
+def test_score_improves_as_the_hatch_style_gets_finer_on_a_grey_wedge():
+    # The hatch style sets its spacing from the pen width so that coverage w/s equals
+    # 1 - Y (Murray-Davies, A. Murray 1936); a finer pen means finer spacing, and at a
+    # fixed viewing blur the drawing must come closer to the wedge.
+    from inkreach.trace import hatch
+
+    levels, band, height = (0.85, 0.7, 0.55, 0.4, 0.25), 64, 256
+    target, _ = _wedge(levels, band, height)
+    target = target.astype(np.float32)
+    scores = []
+    for pen in (6.0, 4.0, 3.0, 2.0):
+        cov = render_coverage(hatch(target, pen_px=pen), target.shape, pen)
+        scores.append(fidelity_images(1.0 - cov, target, blur_px=4.0))
+    tone = [f.tone_error for f in scores]
+    ssim = [f.ssim for f in scores]
+    assert all(a > b for a, b in zip(tone, tone[1:])), tone
+    assert all(a < b for a, b in zip(ssim, ssim[1:])), ssim
+
+
 def test_ssim_is_scikit_image_structural_similarity_of_the_blurred_images():
     rng = np.random.default_rng(1)
     a = rng.uniform(0, 1, (80, 100))
@@ -117,10 +136,17 @@ def test_mismatched_shapes_are_refused():
 
 def test_a_long_line_covers_one_pen_width_per_column():
     # Geometry: a band of width w crossing a column of unit pixels covers w pixels.
-    for pen in (0.6, 1.0, 1.5, 2.5, 3.0, 5.0):
+    for pen in (0.6, 1.0, 1.5, 1.7, 2.0, 2.5, 3.0, 5.0):
         cov = render_coverage([np.array([[-5.0, 19.3], [45.0, 19.3]])], (40, 40), pen)
-        assert cov.sum(axis=0).mean() == pytest.approx(pen, rel=0.06)
+        assert cov.sum(axis=0).mean() == pytest.approx(pen, rel=0.01)
         assert 0.0 <= cov.min() and cov.max() <= 1.0
+
+
+def test_a_dot_covers_the_area_of_the_pen_disc():
+    # Geometry: a disc of diameter d has area pi d^2 / 4.
+    for pen in (2.0, 4.0, 8.0):
+        cov = render_coverage([np.array([[20.0, 20.0]])], (40, 40), pen)
+        assert cov.sum() == pytest.approx(np.pi * pen ** 2 / 4, rel=0.1)
 
 
 class _Stream:

@@ -127,15 +127,7 @@ def fidelity_images(drawn_reflectance, target_reflectance, blur_px):
     return Fidelity(ssim=float(s), tone_error=tone, blur_px=blur, shape=tuple(a.shape))
 
 
-def _supersample(pen_px, choices=range(4, 9)):
-    """Sub-pixels per pixel that make the pen the closest to an odd sub-pixel count."""
-    def err(ss):
-        k = max(0, round((pen_px * ss - 1.0) / 2.0))
-        return abs(2 * k + 1 - pen_px * ss) / ss
-    return min(choices, key=err)
-
-
-def render_coverage(polylines, shape, pen_px, supersample=None):
+def render_coverage(polylines, shape, pen_px, supersample=4):
     """Ink coverage of polylines drawn with a round pen, by supersampling.
 
     Parameters
@@ -148,13 +140,19 @@ def render_coverage(polylines, shape, pen_px, supersample=None):
     pen_px : float
         Pen width, pixels.
     supersample : int, optional
-        Sub-pixels per pixel along each axis; by default the one of 4 to 8
-        that renders the pen width most exactly.
+        Sub-pixels per pixel along each axis.
 
     Returns
     -------
     ndarray, shape (H, W), float32
         Fraction of each pixel covered by ink, in [0, 1].
+
+    Notes
+    -----
+    OpenCV draws thick lines an odd number of sub-pixels wide, so the pen is
+    drawn at the two odd widths either side of ``pen_px * supersample`` and
+    the coverages are mixed in proportion; that is exact in area wherever
+    lines do not overlap.
 
     Examples
     --------
@@ -165,27 +163,48 @@ def render_coverage(polylines, shape, pen_px, supersample=None):
     """
     h, w = int(shape[0]), int(shape[1])
     pen_px = float(pen_px)
-    ss = _supersample(pen_px) if supersample is None else max(1, int(supersample))
-    canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
-    # OpenCV draws a thick line of thickness 2k as a band 2k + 1 sub-pixels wide.
-    thick = int(max(1, 2 * round((pen_px * ss - 1.0) / 2.0)))
+    ss = max(1, int(supersample))
     one = float(1 << _SHIFT)
-    paths = []
+    paths, dots = [], []
     for p in polylines:
         p = np.asarray(p, dtype=float).reshape(-1, 2)
         p = p[np.all(np.isfinite(p), axis=1)]
         if len(p) == 0:
             continue
-        if len(p) == 1:
-            p = np.repeat(p, 2, axis=0)
-        q = np.round(((p + 0.5) * ss - 0.5) * one)
-        paths.append(np.clip(q, -(1 << 26), 1 << 26).astype(np.int32))
-    if paths:
-        cv2.polylines(canvas, paths, False, 255, thick, cv2.LINE_8, _SHIFT)
-    if ss == 1:
-        return canvas.astype(np.float32) / 255.0
-    cov = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA).astype(np.float32)
-    return cov / 255.0
+        q = np.clip(np.round(((p + 0.5) * ss - 0.5) * one), -(1 << 26), 1 << 26)
+        q = q.astype(np.int32)
+        if np.all(q == q[0]):
+            dots.append(q[0])
+        else:
+            paths.append(q)
+    width = pen_px * ss                      # wanted width, sub-pixels
+    lo = max(1, int(np.floor((width - 1.0) / 2.0)) * 2 + 1)   # odd width at or below
+    if width <= 1.0:
+        pairs = [(1, width)]
+    else:
+        frac = (width - lo) / 2.0
+        pairs = [(lo, 1.0 - frac), (lo + 2, frac)]
+    cov = np.zeros((h, w), np.float32)
+    for odd, weight in pairs:
+        if weight <= 0 or not paths:
+            continue
+        canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
+        # OpenCV draws thickness 2k as a band 2k + 1 sub-pixels wide (1 for 1).
+        cv2.polylines(canvas, paths, False, 255, max(1, odd - 1), cv2.LINE_8, _SHIFT)
+        if ss > 1:
+            canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
+        cov += np.float32(weight / 255.0) * canvas
+    if dots:
+        # a dot is a filled disc of the pen's diameter; OpenCV fills every
+        # sub-pixel centre within the radius, about half a sub-pixel wide
+        canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
+        r = int(round(max(0.5 * width - 0.5, 0.0) * one))
+        for c in dots:
+            cv2.circle(canvas, (int(c[0]), int(c[1])), r, 255, -1, cv2.LINE_8, _SHIFT)
+        if ss > 1:
+            canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
+        cov = np.maximum(cov, canvas.astype(np.float32) / 255.0)
+    return np.clip(cov, 0.0, 1.0)
 
 
 def drawn_polylines(stream, arm):
