@@ -153,7 +153,8 @@ def write_files(folder, files, safety=True):
                     raise InkreachError(f"output {target} is a folder; move it away or "
                                         "choose another output folder")
                 backups[name] = _backup(folder, name, target)
-            os.replace(temps.pop(name), target)
+            os.replace(temps[name], target)
+            del temps[name]
             placed.append(name)
     except BaseException:
         for name in reversed(placed):

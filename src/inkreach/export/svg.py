@@ -62,7 +62,7 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
     >>> import xml.etree.ElementTree as ET
     >>> svg = preview_svg([np.array([[0.0, 100.0], [20.0, 110.0]])])
     >>> ET.fromstring(svg).get("width")
-    '30.800mm'
+    '21.200mm'
     """
     strokes = as_strokes(strokes)
     pen_w = float(arm.pen.width_mm) if arm is not None else 0.5
