@@ -36,11 +36,11 @@ def default_min_length(shape):
 def finish(strokes, style, min_length=0.0, simplify=0.0):
     """Filter short strokes, simplify, and refuse an empty drawing."""
     strokes = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
+    if simplify > 0:
+        strokes = simplify_polylines(strokes, simplify)
     if min_length > 0 and strokes:
         lengths = polyline_lengths(strokes)
         strokes = [s for s, L in zip(strokes, lengths) if L >= min_length]
-    if simplify > 0:
-        strokes = simplify_polylines(strokes, simplify)
     if not strokes:
         raise InkreachError(
             f"the {style} style found nothing to draw in this picture; "

@@ -267,9 +267,14 @@ def _skeleton_graph(skel):
     # Junction nodes 0..n_j-1 at the centroids of their pixel clusters.
     jr, jc = np.nonzero(junction)
     jl = jlab[jr, jc] - 1
-    cnt = np.bincount(jl, minlength=n_j).astype(float)
-    node_xy = [np.stack([np.bincount(jl, jc, n_j) / np.maximum(cnt, 1),
-                         np.bincount(jl, jr, n_j) / np.maximum(cnt, 1)], axis=1)]
+    cnt = np.maximum(np.bincount(jl, minlength=n_j), 1).astype(float)
+    mx, my = np.bincount(jl, jc, n_j) / cnt, np.bincount(jl, jr, n_j) / cnt
+    # Each node sits on the cluster pixel nearest the cluster's centroid, so
+    # strokes only pass through skeleton pixels.
+    d2 = (jc - mx[jl]) ** 2 + (jr - my[jl]) ** 2
+    pick = np.lexsort((d2, jl))
+    first = pick[np.searchsorted(jl[pick], np.arange(n_j))]
+    node_xy = [np.stack([jc[first], jr[first]], axis=1).astype(float).reshape(-1, 2)]
 
     pr, pc = np.nonzero(plain)
     n = len(pr)
@@ -424,7 +429,7 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
     Notes
     -----
     Pixels with three or more 8-neighbours are junctions; adjacent junction
-    pixels form one node.  Removing them leaves simple paths (every other
+    pixels form one node, placed on its pixel nearest the cluster's centroid.  Removing them leaves simple paths (every other
     pixel has at most two neighbours), which are ordered by one depth-first
     walk.  Each connected figure with ``2k`` odd nodes becomes ``max(1, k)``
     strokes; see `trail_decomposition`.
@@ -462,9 +467,9 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
             p = p if a % 2 == 0 else p[::-1]
             parts.append(p if not parts else p[1:])
         strokes.append(np.concatenate(parts))
+    if simplify > 0:
+        strokes = simplify_polylines(strokes, simplify)
     if min_length > 0:
         lengths = polyline_lengths(strokes)
         strokes = [s for s, L in zip(strokes, lengths) if L >= min_length]
-    if simplify > 0:
-        strokes = simplify_polylines(strokes, simplify)
     return strokes

@@ -1,0 +1,171 @@
+import io
+import struct
+import time
+import zlib
+
+import numpy as np
+import pytest
+from PIL import Image
+
+from inkreach.errors import InkreachError
+from inkreach.trace import Picture, load_image, srgb_to_linear
+
+
+def _png_chunk(kind, data):
+    body = kind + data
+    return struct.pack(">I", len(data)) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
+
+
+def test_load_gives_linear_luminance_with_rec709_weights():
+    # Rec. 709 / sRGB: Y = 0.2126 R + 0.7152 G + 0.0722 B of linear values.
+    a = np.zeros((10, 10, 3), np.uint8)
+    a[..., 0], a[..., 1], a[..., 2] = 200, 100, 50
+    y = load_image(a).luminance
+    lin = srgb_to_linear(np.array([200, 100, 50]) / 255.0)
+    assert y.dtype == np.float32
+    np.testing.assert_allclose(y, 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2], atol=1e-6)
+
+
+def test_exif_rotated_jpeg_comes_out_upright(tmp_path):
+    # Orientation 6 (EXIF 2.3, tag 0x0112): the stored image must be turned
+    # 90 degrees clockwise to show upright.
+    a = np.full((40, 80, 3), 255, np.uint8)
+    a[:, :20] = 0                       # dark band at the stored left edge
+    exif = Image.Exif()
+    exif[0x0112] = 6
+    path = tmp_path / "turned.jpg"
+    Image.fromarray(a).save(path, exif=exif, quality=95)
+    pic = load_image(path)
+    assert pic.original_size == (40, 80)       # (width, height) upright
+    assert pic.luminance.shape == (80, 40)
+    assert pic.luminance[:20].mean() < 0.1     # the band is now at the top
+    assert pic.luminance[-20:].mean() > 0.9
+
+
+def test_palette_png_transparency_becomes_white_paper(tmp_path):
+    im = Image.new("P", (20, 20), 0)
+    im.putpalette([0, 0, 0, 255, 0, 0] + [0] * (254 * 3))
+    im.paste(1, (0, 0, 10, 20))
+    path = tmp_path / "clear.png"
+    im.save(path, transparency=0)
+    y = load_image(path).luminance
+    np.testing.assert_allclose(y[:, 12:], 1.0)                   # transparent -> white
+    assert y[:, :8].mean() == pytest.approx(0.2126, abs=1e-3)   # opaque pure red
+
+
+def test_rgba_alpha_is_composited_in_linear_light():
+    a = np.zeros((10, 10, 4), np.uint8)
+    a[..., 3] = 128
+    assert load_image(a).luminance.mean() == pytest.approx(1 - 128 / 255, abs=1e-4)
+
+
+def test_sixteen_bit_png_keeps_its_levels(tmp_path):
+    a = np.tile(np.linspace(0, 65535, 64).astype(np.uint16), (16, 1))
+    path = tmp_path / "deep.png"
+    Image.fromarray(a).save(path)
+    y = load_image(path).luminance
+    np.testing.assert_allclose(y[0], srgb_to_linear(a[0] / 65535.0), atol=1e-5)
+
+
+def test_cmyk_jpeg_is_read(tmp_path):
+    im = Image.new("CMYK", (30, 20), (0, 0, 0, 255))        # full black ink
+    im.paste((0, 0, 0, 0), (15, 0, 30, 20))                  # no ink
+    path = tmp_path / "print.jpg"
+    im.save(path, quality=95)
+    y = load_image(path).luminance
+    assert y[:, :10].mean() < 0.05 and y[:, 20:].mean() > 0.9
+
+
+def test_animated_gif_gives_its_first_frame(tmp_path):
+    frames = [Image.new("L", (20, 20), 0), Image.new("L", (20, 20), 255)]
+    path = tmp_path / "anim.gif"
+    frames[0].save(path, save_all=True, append_images=frames[1:], duration=100)
+    assert load_image(path).luminance.max() < 0.05
+
+
+@pytest.mark.parametrize("kind", ["PNG", "WEBP", "TIFF", "BMP"])
+def test_common_formats_load(tmp_path, kind):
+    path = tmp_path / f"pic.{kind.lower()}"
+    Image.new("RGB", (16, 12), (255, 255, 255)).save(path, kind)
+    pic = load_image(path)
+    assert pic.original_size == (16, 12) and pic.name == path.name
+
+
+def test_truncated_jpeg_is_refused(tmp_path):
+    buf = io.BytesIO()
+    rng = np.random.default_rng(0)
+    Image.fromarray(rng.integers(0, 255, (200, 200, 3), dtype=np.uint8)).save(buf, "JPEG")
+    path = tmp_path / "cut.jpg"
+    path.write_bytes(buf.getvalue()[: len(buf.getvalue()) // 2])
+    with pytest.raises(InkreachError, match="cut.jpg.*damaged or cut short"):
+        load_image(path)
+
+
+def test_text_named_png_is_refused(tmp_path):
+    path = tmp_path / "notes.png"
+    path.write_text("this is not a picture\n")
+    with pytest.raises(InkreachError, match="notes.png.*not a picture"):
+        load_image(path)
+
+
+def test_empty_file_is_refused(tmp_path):
+    path = tmp_path / "empty.png"
+    path.write_bytes(b"")
+    with pytest.raises(InkreachError, match="empty"):
+        load_image(path)
+
+
+def test_missing_file_and_folder_are_refused(tmp_path):
+    with pytest.raises(InkreachError, match="no such file"):
+        load_image(tmp_path / "nowhere.png")
+    with pytest.raises(InkreachError, match="folder"):
+        load_image(tmp_path)
+
+
+def test_huge_header_png_is_refused_before_decoding(tmp_path):
+    # A PNG (ISO/IEC 15948) whose IHDR claims 60000 x 60000 8-bit grey pixels,
+    # followed by a tiny IDAT: decoding it would need 3.6 GB.
+    ihdr = struct.pack(">IIBBBBB", 60000, 60000, 8, 0, 0, 0, 0)
+    data = (b"\x89PNG\r\n\x1a\n" + _png_chunk(b"IHDR", ihdr)
+            + _png_chunk(b"IDAT", zlib.compress(b"\x00" * 100)) + _png_chunk(b"IEND", b""))
+    path = tmp_path / "bomb.png"
+    path.write_bytes(data)
+    t = time.perf_counter()
+    with pytest.raises(InkreachError, match="bomb.png.*(too large|more than)"):
+        load_image(path)
+    assert time.perf_counter() - t < 5.0   # refused from the header, not decoded
+
+
+def test_too_small_picture_is_refused():
+    with pytest.raises(InkreachError, match="too small"):
+        load_image(np.zeros((5, 50), np.uint8))
+
+
+def test_large_picture_is_shrunk_by_area_averaging_in_linear_light():
+    # Alternating black and white columns average to linear 0.5, not sRGB 0.5.
+    a = np.zeros((400, 2400), np.uint8)
+    a[:, ::2] = 255
+    pic = load_image(a, max_side=1200)
+    assert pic.luminance.shape == (200, 1200)
+    assert pic.luminance.mean() == pytest.approx(0.5, abs=1e-3)
+    assert pic.scale == pytest.approx(0.5) and pic.original_size == (2400, 400)
+
+
+def test_to_original_maps_pixel_centres():
+    pic = load_image(np.zeros((300, 3000), np.uint8), max_side=1000)
+    assert pic.scale_xy == (1000 / 3000, 100 / 300)
+    np.testing.assert_allclose(pic.to_original([[0, 0], [999, 99]]),
+                               [[1.0, 1.0], [2998.0, 298.0]])
+    assert isinstance(pic, Picture)
+    np.testing.assert_allclose(pic.ink, 1.0)
+
+
+def test_float_and_pillow_sources():
+    pic = load_image(np.full((10, 10), 0.5))
+    assert pic.luminance.mean() == pytest.approx(0.214041, abs=1e-5)  # IEC 61966-2-1
+    pic = load_image(Image.new("LA", (12, 12), (0, 0)))
+    np.testing.assert_allclose(pic.luminance, 1.0)
+    with pytest.raises(InkreachError, match="\\[0, 1\\]"):
+        load_image(np.full((10, 10), 2.0))
+    with pytest.raises(InkreachError, match="file path"):
+        load_image(42)
