@@ -111,3 +111,10 @@ def test_provisional_scale_is_close_to_and_not_above_the_placed_scale(name):
     assert provisional_scale((w, h), arm, wmap=wmap, size=151.0) == 1.0
     on_paper = provisional_scale((w, h), arm, wmap=wmap, paper=(-50.0, 130.0, 60.0, 60.0))
     assert on_paper * w <= 50.0 + 1e-9
+
+
+def test_paper_larger_than_the_workspace_changes_nothing():
+    arm, wmap = _setup()
+    free = place_drawing(RECT, arm, wmap=wmap, rotations=[0.0])
+    big = place_drawing(RECT, arm, wmap=wmap, rotations=[0.0], paper=(-400.0, -400.0, 800.0, 800.0))
+    assert np.isclose(big.scale, free.scale, rtol=1e-6)
