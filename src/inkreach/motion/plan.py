@@ -152,7 +152,16 @@ def _geometry(path, arm, margin, tip_speed):
         vseg = np.where(qpm > 0, margin * lim.max_speed / qpm, np.inf)
         acc = np.where(qpm > 0, margin * lim.max_accel / qpm, np.inf)
     drawing = same & (vk[:-1] == _STROKE)
-    vseg = np.where(drawing, np.minimum(vseg, tip_speed), vseg)
+    if np.any(drawing):
+        # Joint-linear motion does not move the pen at a constant speed: bound
+        # the pen speed per unit path speed by |J dq/ds| at both segment ends.
+        k = np.flatnonzero(drawing)
+        J0 = arm.jacobian(Q[k])
+        J1 = arm.jacobian(Q[k + 1])
+        g0 = np.hypot(*np.einsum("nij,nj->ni", J0, qp[k]).T)
+        g1 = np.hypot(*np.einsum("nij,nj->ni", J1, qp[k]).T)
+        gain = np.maximum(np.maximum(g0, g1), 1.0)
+        vseg[k] = np.minimum(vseg[k], tip_speed / gain)
     return {"same": same, "dq": dq, "dp": dp, "length": length, "qp": qp,
             "vseg": vseg, "acc": acc, "drawing": drawing}
 
