@@ -63,7 +63,7 @@ def test_impossible_size_fails_saying_the_largest_that_fits():
     arm, wmap = _setup()
     with pytest.raises(InkreachError, match="the largest that fits is") as e:
         place_drawing(RECT, arm, wmap=wmap, size=10_000.0)
-    largest = float(re.search(r"is ([\d.]+) mm", str(e.value)).group(1))
+    largest = float(re.search(r"is about ([\d.]+) mm", str(e.value)).group(1))
     p = place_drawing(RECT, arm, wmap=wmap, size=largest)
     assert np.isclose(max(p.size_mm), largest)
 

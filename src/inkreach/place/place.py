@@ -21,6 +21,7 @@ _SHRINK = 0.98          # shrink factor per failed exact check
 _SHRINK_STEPS = 25      # 0.98 ** 25 is about 0.6
 _ISO_LADDER = (1.0, 0.95, 0.9, 0.85, 0.8)
 _ISO_SLACK = 0.02       # conditioning given up to keep a larger scale (common practice)
+_SAFE_FIXED = 0.98      # the largest fixed size reported leaves 2 % for the exact check
 _TOO_SMALL = ("the arm's usable region is too small for any drawing; "
               "check the limits and the conditioning floor")
 
@@ -143,11 +144,12 @@ def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margi
             s = float(size) / longer
             found = _search_fixed(fit, units, s, wmap, arm, prefer)
             if found is None:
-                k_best, s_best = _search_largest(fit, units, wmap.step)
+                _, s_best = _search_largest(fit, units, wmap.step)
                 where = "on the paper" if paper is not None else "in the arm's usable region"
+                largest = np.floor(10 * _SAFE_FIXED * s_best * longer) / 10
                 raise InkreachError(
                     f"a drawing {size:g} mm long does not fit {where}; "
-                    f"the largest that fits is {s_best * longer:.1f} mm")
+                    f"the largest that fits is about {largest:.1f} mm")
             k, (i, j, _) = found
         t = fit.translation(units[k] * s, i, j)
         matrix = np.hstack([_linear(s, rots[k], flip), t[:, None]])
@@ -330,9 +332,9 @@ def _search_isotropic(fit, units, s_max, wmap, arm):
             if F is not None and F.any():
                 pos = _best_position(fit, U * (f * s_max), wmap.conditioning, floor)
                 return k, f * s_max, pos
-    k = 0  # unreachable in practice: the last rung fits by construction
-    return k, _ISO_LADDER[-1] * s_max, _best_position(fit, units[0] * _ISO_LADDER[-1] * s_max,
-                                                      wmap.conditioning, floor)
+    # not reached in practice: the last rung fits at c_target by construction
+    s = _ISO_LADDER[-1] * s_max
+    return 0, s, _best_position(fit, units[0] * s, wmap.conditioning, floor)
 
 
 def _search_fixed(fit, units, s, wmap, arm, prefer):
