@@ -1,0 +1,118 @@
+"""check_stream refuses deliberately broken streams, naming the broken limit."""
+
+import numpy as np
+import pytest
+
+from inkreach.arms import load_arm
+from inkreach.errors import InkreachError
+from inkreach.motion import JointStream, StreamReport, check_stream, plan_motion
+
+ARM = load_arm("default")
+LINE = [np.array([[-30.0, 150.0], [30.0, 150.0]])]
+GOOD = plan_motion(LINE, ARM)
+
+
+def _with(stream, q=None, pen=None, xy=None, t=None, stroke="same"):
+    q = stream.q.copy() if q is None else q
+    return JointStream(t=stream.t.copy() if t is None else t, q=q,
+                       pen=stream.pen.copy() if pen is None else pen,
+                       xy=ARM.fk(q) if xy is None else xy, period=stream.period,
+                       stroke=stream.stroke.copy() if stroke == "same" else stroke)
+
+
+def _dwell_row(stream):
+    """A pen-down row in the middle of the lowering dwell (the arm at rest)."""
+    k = int(np.flatnonzero(stream.pen == 1)[0])
+    return k + 2
+
+
+def test_good_stream_passes_with_a_report():
+    r = check_stream(GOOD, ARM, strokes=LINE)
+    assert isinstance(r, StreamReport)
+    assert r.rows == len(GOOD) and r.duration == pytest.approx(GOOD.duration)
+    assert max(r.max_speed_deg_s) <= np.rad2deg(ARM.limits.max_speed)
+    assert max(r.max_accel_deg_s2) <= np.rad2deg(ARM.limits.max_accel)
+    assert r.min_conditioning >= ARM.limits.min_conditioning
+    assert r.max_deviation_mm <= 0.05
+
+
+def test_row_outside_the_joint_limits_is_caught():
+    q = GOOD.q.copy()
+    q[5, 0] = ARM.limits.upper[0] + 0.01
+    with pytest.raises(InkreachError, match=r"row 5 \(t = 0\.10 s\): theta1 = .* outside the limits"):
+        check_stream(_with(GOOD, q), ARM)
+
+
+def test_speed_spike_is_caught():
+    q = GOOD.q.copy()
+    k = _dwell_row(GOOD)
+    q[k, 1] += np.deg2rad(5.0)  # 5 deg in one 20 ms period = 250 deg/s > 180 deg/s
+    with pytest.raises(InkreachError, match=rf"row {k} .*theta2 speed 250\.0 deg/s exceeds "
+                                            r"the limit 180 deg/s; lower tip_speed"):
+        check_stream(_with(GOOD, q), ARM)
+
+
+def test_acceleration_spike_is_caught():
+    q = GOOD.q.copy()
+    k = _dwell_row(GOOD)
+    q[k, 0] += np.deg2rad(0.8)  # 40 deg/s, but 0.8 deg / (20 ms)^2 = 2000 deg/s^2 > 1500
+    with pytest.raises(InkreachError, match=r"theta1 acceleration 2000\.0 deg/s\^2 exceeds"):
+        check_stream(_with(GOOD, q), ARM)
+
+
+def test_row_off_its_stroke_is_caught():
+    q = GOOD.q.copy()
+    k = _dwell_row(GOOD)
+    q[k] += np.deg2rad([0.1, 0.1])  # about 0.3 mm away, slow enough for the limits
+    with pytest.raises(InkreachError, match=rf"row {k} .*mm off stroke 0, more than chord_tol"):
+        check_stream(_with(GOOD, q), ARM, strokes=LINE)
+    # Without strokes there is nothing to compare with, so it passes.
+    check_stream(_with(GOOD, q), ARM)
+
+
+def test_row_near_a_singularity_is_caught():
+    # A posture inside the limits whose conditioning is below the floor.
+    g = np.deg2rad(np.stack(np.meshgrid(np.arange(20, 221, 2.0), np.arange(-40, 161, 2.0)),
+                            -1).reshape(-1, 2))
+    c = ARM.conditioning(g)
+    ok = np.isfinite(ARM.fk(g)[:, 0]) & (c < 0.1)
+    q0 = g[np.flatnonzero(ok)[0]]
+    q = np.repeat(q0[None], 3, axis=0)
+    s = JointStream(t=np.arange(3) * 0.02, q=q, pen=np.zeros(3, np.int8), xy=ARM.fk(q),
+                    period=0.02, stroke=np.full(3, -1))
+    with pytest.raises(InkreachError, match=r"row 0 .*conditioning 0\.0.* is below the floor 0\.3"):
+        check_stream(s, ARM)
+
+
+def test_xy_that_disagrees_with_the_angles_is_caught():
+    xy = GOOD.xy.copy()
+    xy[7, 0] += 0.01
+    with pytest.raises(InkreachError, match=r"row 7 .*the angles put the pen at"):
+        check_stream(_with(GOOD, xy=xy), ARM)
+
+
+def test_uneven_periods_are_caught():
+    t = GOOD.t.copy()
+    t[10:] += 0.005
+    with pytest.raises(InkreachError, match=r"row 10 .*off the fixed period"):
+        check_stream(_with(GOOD, t=t), ARM)
+
+
+def test_pen_down_row_without_a_stroke_is_caught():
+    pen = GOOD.pen.copy()
+    pen[0] = 1
+    with pytest.raises(InkreachError, match=r"row 0 .*belongs to no stroke"):
+        check_stream(_with(GOOD, pen=pen), ARM, strokes=LINE)
+
+
+def test_stroke_labels_are_inferred_from_pen_runs_when_missing():
+    r = check_stream(_with(GOOD, stroke=None), ARM, strokes=LINE)
+    assert r.max_deviation_mm <= 0.05
+    with pytest.raises(InkreachError, match="stroke 1 is never drawn"):
+        check_stream(_with(GOOD, stroke=None), ARM, strokes=LINE + LINE)
+
+
+def test_touch_down_away_from_the_stroke_start_is_caught():
+    shifted = [LINE[0] + [0.0, 0.03]]  # within chord_tol, but the touch-down must be exact
+    with pytest.raises(InkreachError, match=r"touches down 0\.0300 mm from the start of stroke 0"):
+        check_stream(GOOD, ARM, strokes=shifted)
