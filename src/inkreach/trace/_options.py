@@ -104,7 +104,7 @@ OPTIONS = {
         "pen_px": _PEN,
         "dots": (None, "number of dots (None: a few thousand, more for darker, larger pictures)",
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
-        "iterations": (30, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
+        "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
         "mode": ("dots", "'dots' lifts the pen at every dot, 'line' joins them in one path",
                  _Choice("dots", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),

@@ -12,8 +12,8 @@ from ._common import as_luminance
 
 __all__ = ["stipple", "default_dot_count"]
 
-_GRID_PIXELS_PER_DOT = 24   # density samples per dot for the relaxation
-_MAX_GRID = 400_000
+_GRID_PIXELS_PER_DOT = 16   # density samples per dot for the relaxation
+_MAX_GRID = 250_000
 
 
 def default_dot_count(ink, pen_px):
@@ -46,7 +46,7 @@ def _lloyd(density, points, iterations):
     return points
 
 
-def stipple(lum, *, pen_px=2.0, dots=None, iterations=30, mode="dots", seed=0,
+def stipple(lum, *, pen_px=2.0, dots=None, iterations=20, mode="dots", seed=0,
             contrast=2.0):
     """Draw tone with dots placed by weighted Voronoi stippling.
 
@@ -88,7 +88,7 @@ def stipple(lum, *, pen_px=2.0, dots=None, iterations=30, mode="dots", seed=0,
     Each round moves every dot to the density-weighted centroid of its
     Voronoi cell; cells are found by assigning density samples to their
     nearest dot with a k-d tree.  The relaxation runs on a grid with about
-    24 samples per dot, shrunk by area averaging.
+    16 samples per dot, shrunk by area averaging.
 
     References
     ----------
