@@ -78,7 +78,7 @@ class ServoCalibration:
     frame_hz: float = _FRAME_HZ
 
     def __post_init__(self):
-        for i, name in enumerate(("motor1", "motor2")):
+        for name in ("motor1", "motor2"):
             a = _check_table(getattr(self, name), f"servo {name}")
             object.__setattr__(self, name, tuple(map(tuple, a.tolist())))
         for name in ("pen_up_us", "pen_down_us", "frame_hz"):
@@ -203,9 +203,9 @@ def servo_pulses(stream, cal=None, whole_us=True):
 
     References
     ----------
-    .. [1] P. Horowitz and W. Hill, *The Art of Electronics*, 3rd ed.,
-       Cambridge University Press, 2015 (pulse-width control of servo
-       motors).
+    .. [1] W. H. Press, S. A. Teukolsky, W. T. Vetterling and B. P. Flannery,
+       *Numerical Recipes*, 3rd ed., Cambridge University Press, 2007,
+       sec. 3.1 (searching an ordered table, linear interpolation).
 
     Examples
     --------
