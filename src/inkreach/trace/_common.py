@@ -1,4 +1,4 @@
-"""Small helpers shared by the drawing styles."""
+"""Small pieces shared by the drawing styles."""
 
 import numpy as np
 
