@@ -1,0 +1,71 @@
+"""Running the web page on a local port."""
+
+import ipaddress
+import sys
+
+__all__ = ["serve"]
+
+_LOOPBACK_NAMES = ("localhost", "127.0.0.1", "::1", "[::1]")
+
+
+def _is_loopback(host):
+    if host in ("localhost",):
+        return True
+    try:
+        return ipaddress.ip_address(host.strip("[]")).is_loopback
+    except ValueError:
+        return False
+
+
+def serve(host="127.0.0.1", port=8765, open_browser=False, **app_options):
+    """Serve the web page until interrupted.
+
+    Parameters
+    ----------
+    host : str
+        Address to bind; the loopback address by default, so only this
+        computer can reach the page.
+    port : int
+        TCP port (0 picks a free one).
+    open_browser : bool
+        Open the page in the default browser once it is up.
+    **app_options
+        Passed to :func:`inkreach.web.create_app`.
+
+    Notes
+    -----
+    Prints one line with the address when the server is listening. When bound
+    to a loopback address, only requests naming a loopback host are answered
+    (a guard against DNS rebinding).
+    """
+    import socket
+
+    import uvicorn
+
+    from .app import create_app
+
+    if _is_loopback(host):
+        app_options.setdefault("allowed_hosts", list(_LOOPBACK_NAMES) + [host])
+    app = create_app(**app_options)
+    family = socket.AF_INET6 if ":" in host else socket.AF_INET
+    sock = socket.socket(family, socket.SOCK_STREAM)
+    sock.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
+    sock.bind((host.strip("[]"), int(port)))
+    real_port = sock.getsockname()[1]
+    shown = f"[{host.strip('[]')}]" if ":" in host else host
+    url = f"http://{shown}:{real_port}/"
+    config = uvicorn.Config(app, log_level="warning", access_log=False, lifespan="on")
+    server = uvicorn.Server(config)
+    print(f"inkreach web page at {url} (Ctrl+C to stop)", flush=True)
+    if open_browser:
+        import threading
+        import webbrowser
+        threading.Timer(0.8, webbrowser.open, args=(url,)).start()
+    try:
+        server.run(sockets=[sock])
+    except KeyboardInterrupt:  # pragma: no cover - interactive stop
+        pass
+    finally:
+        app.state.shutdown()
+        sock.close()
+        sys.stdout.flush()
