@@ -129,7 +129,7 @@ def sheet_svg(arm, targets):
     for i, (dx, dy) in enumerate(dots, start=1):
         cx, cy = X(dx), Y(dy)
         out.append(f'<circle class="dot-ring" cx="{cx:.3f}" cy="{cy:.3f}" r="{_RING:g}" fill="none" '
-                   f'stroke="#777" stroke-width="0.15"/>')
+                   f'stroke="#999" stroke-width="0.15"/>')
         out.append(f'<text class="dot-label" x="{cx + _RING + 0.8:.3f}" '
                    f'y="{cy - _RING + 0.5:.3f}">{i}</text>')
     out.append("</g>")
