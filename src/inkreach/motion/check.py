@@ -61,7 +61,7 @@ def _fail(msg):
     raise InkreachError(msg)
 
 
-def stream_violations(q, period, arm):
+def _stream_violations(q, period, arm):
     """Rows involved in a finite-difference speed or acceleration beyond the limits.
 
     The limits are tightened by what rounding the angles to 1e-4 degree can

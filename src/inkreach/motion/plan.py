@@ -3,10 +3,10 @@
 import numpy as np
 
 from ..errors import InkreachError
-from .check import check_stream, stream_violations
+from .check import check_stream, _stream_violations
 from .stream import JointStream
 from .subdivide import _reachable_q, _subdivide_many
-from .timing import forward_backward, position_in_segment, segment_profiles
+from .timing import _forward_backward, _position_in_segment, _segment_profiles
 
 __all__ = ["plan_motion"]
 
@@ -242,8 +242,8 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     acc = g["acc"] * f * f
     with np.errstate(invalid="ignore"):
         d = np.where(g["length"] > 0, 2 * acc * g["length"], 0.0)
-    w = forward_backward(cap2, d)
-    prof = segment_profiles(w, g["length"], vseg, np.where(np.isfinite(acc), acc, 1.0))
+    w = _forward_backward(cap2, d)
+    prof = _segment_profiles(w, g["length"], vseg, np.where(np.isfinite(acc), acc, 1.0))
     tv = np.concatenate([[0.0], np.cumsum(prof["dt"])])
     t0 = tv[path.first]
     dur = tv[path.last] - t0
@@ -261,7 +261,7 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     seg = np.clip(seg, 0, max(len(g["length"]) - 1, 0))
     snap = (k == n[rp]) | dwell[rp]
     if len(g["length"]):
-        u = position_in_segment(prof, seg, tau - tv[seg])
+        u = _position_in_segment(prof, seg, tau - tv[seg])
         q = path.Q[seg] + u[:, None] * g["dq"][seg]
     else:
         q = np.repeat(path.Q[:1], len(rp), axis=0)
@@ -460,13 +460,13 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     for _ in range(_MAX_REPAIRS):
         q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
                                              n_dwell)
-        rows = stream_violations(q, period, arm)
+        rows = _stream_violations(q, period, arm)
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
             break
     else:
-        rows = stream_violations(q, period, arm)
+        rows = _stream_violations(q, period, arm)
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")

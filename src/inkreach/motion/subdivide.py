@@ -22,7 +22,7 @@ def _point_segment_distance(p, a, b):
     return np.hypot(d[..., 0], d[..., 1])
 
 
-def chord_deviation(arm, pa, pb, qa, qb):
+def _chord_deviation(arm, pa, pb, qa, qb):
     """Largest distance of the joint-linear chord ``qa -> qb`` from ``pa -> pb``.
 
     The chord is probed at its quarter points and midpoint through forward
@@ -88,7 +88,7 @@ def _subdivide_many(points, active, arm, chord_tol, what="stroke"):
         idx = np.flatnonzero(pending)
         if idx.size == 0:
             break
-        dev = chord_deviation(arm, P[idx], P[idx + 1], Q[idx], Q[idx + 1])
+        dev = _chord_deviation(arm, P[idx], P[idx + 1], Q[idx], Q[idx + 1])
         fail = ~(dev <= chord_tol)
         bad = idx[fail]
         pending[:] = False

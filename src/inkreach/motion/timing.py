@@ -52,7 +52,7 @@ def trapezoid_time(distance, vmax, amax):
     return float(t) if t.ndim == 0 else t
 
 
-def forward_backward(cap2, d):
+def _forward_backward(cap2, d):
     """Largest squared path speeds under vertex caps and segment accelerations.
 
     Solves ``w[i+1] <= w[i] + d[i]``, ``w[i] <= w[i+1] + d[i]`` and
@@ -85,13 +85,13 @@ def forward_backward(cap2, d):
     return np.clip(wb[::-1], 0.0, None)
 
 
-def segment_profiles(w, length, vseg, acc):
+def _segment_profiles(w, length, vseg, acc):
     """Per-segment accelerate, cruise, decelerate profile between vertex speeds.
 
     Parameters
     ----------
     w : ndarray, shape (K,)
-        Squared vertex speeds from :func:`forward_backward`.
+        Squared vertex speeds from :func:`_forward_backward`.
     length, vseg, acc : ndarray, shape (K - 1,)
         Segment length, speed cap and acceleration limit (path units).
 
@@ -122,7 +122,7 @@ def segment_profiles(w, length, vseg, acc):
             "s1": s1, "s2": s2, "dt": t1 + t2 + t3, "length": length}
 
 
-def position_in_segment(prof, seg, tau):
+def _position_in_segment(prof, seg, tau):
     """Distance travelled along segment ``seg`` after time ``tau`` in it."""
     v0 = prof["v0"][seg]
     vp = prof["vp"][seg]
