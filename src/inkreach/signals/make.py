@@ -4,6 +4,7 @@ import numpy as np
 
 from ..errors import InkreachError
 from .servo import servo_calibration_from_arm, servo_pulses
+from .correction import commanded_stream
 from .stepper import stepper_config_from_arm, stepper_steps
 
 __all__ = ["make_signals", "SIGNAL_KINDS"]
@@ -49,6 +50,9 @@ def make_signals(stream, arm, kind="auto"):
     if kind not in SIGNAL_KINDS:
         raise InkreachError(f"signals {kind!r} is unknown; use one of {', '.join(SIGNAL_KINDS)}")
     hw = getattr(arm, "hardware", None) or {}
+    # a calibrated arm: the motors are driven to the commanded angles that
+    # make them really reach the stream's model angles
+    stream = commanded_stream(stream, arm)
     out = {}
     if kind == "none":
         return out

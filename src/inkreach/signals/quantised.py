@@ -3,6 +3,7 @@
 import numpy as np
 
 from ..errors import InkreachError
+from .correction import from_commanded
 from .servo import ServoSignals
 from .stepper import StepperSignals, reached_angles
 
@@ -22,7 +23,8 @@ def quantised_angles(stream, *signals):
         pulses to whole microseconds shows). A dict as made by
         :func:`make_signals` uses its stepper signals when present, else
         its servo signals, else the stream's own angles. An arm given
-        before the signals is accepted and not needed.
+        before the signals applies its ``[calibration]`` correction, so the
+        result is in the model's angles.
 
     Returns
     -------
@@ -41,6 +43,9 @@ def quantised_angles(stream, *signals):
     >>> np.rad2deg(quantised_angles(s, stepper_steps(s))).round(4).tolist()
     [[10.0125, 20.025]]
     """
+    arm = None
+    if signals and hasattr(signals[0], "fk"):
+        arm, signals = signals[0], signals[1:]
     sig = signals[-1] if signals else None
     if isinstance(sig, dict):
         sig = sig.get("stepper", sig.get("servo"))
@@ -52,7 +57,11 @@ def quantised_angles(stream, *signals):
         raise InkreachError(f"the signals hold {len(sig)} rows but the stream "
                             f"{len(stream)}; make them from the same stream")
     if isinstance(sig, StepperSignals):
-        return reached_angles(sig.steps, sig.config)
-    cal = sig.calibration
-    p = np.asarray(sig.pulse_us, dtype=float)
-    return np.deg2rad(np.stack([cal.angle(0, p[:, 0]), cal.angle(1, p[:, 1])], axis=1))
+        q = reached_angles(sig.steps, sig.config)
+    else:
+        cal = sig.calibration
+        p = np.asarray(sig.pulse_us, dtype=float)
+        q = np.deg2rad(np.stack([cal.angle(0, p[:, 0]), cal.angle(1, p[:, 1])], axis=1))
+    # signals are made from commanded angles; a calibrated arm turns them
+    # into the angles it really reaches
+    return q if arm is None else from_commanded(q, arm)
