@@ -167,7 +167,9 @@ def build_parser():
     c.add_argument("step", choices=("sheet", "fit"), help="sheet or fit")
     c.add_argument("measurements", nargs="?", help="for fit: the filled-in measurements CSV")
     c.add_argument("--arm", default=None, help="arm file or built-in arm name")
-    c.add_argument("--dots", type=int, default=12, help="number of dots on the sheet (default 12)")
+    c.add_argument("--dots", type=int, default=None,
+                   help="number of dots on the sheet (default 24 for a five-bar, 12 for a "
+                        "serial arm)")
     c.add_argument("--out", "-o", default="inkreach-calibration", metavar="DIR")
 
     sub.add_parser("styles", help="list the drawing styles and their options")
