@@ -1,5 +1,6 @@
 """The web API: good plans, hostile uploads, limits and clean-up."""
 
+import functools
 import io
 import json
 import os
@@ -65,6 +66,7 @@ def fake_plan(image, arm=None, style="outline", progress=None, **options):
     return _FakePlan(strokes, arm, _WMAP[arm.name], style)
 
 
+@functools.lru_cache(maxsize=None)
 def _real_planner_runs():
     try:
         from inkreach.plan import plan

@@ -275,7 +275,6 @@
     const ws = res.workspace || {};
     const add = (p) => { xs.push(p[0]); ys.push(p[1]); };
     (ws.usable || []).forEach((poly) => poly.forEach(add));
-    (ws.reach || []).forEach((poly) => poly.forEach(add));
     (ws.motors || []).forEach(add);
     (res.strokes || []).forEach((s) => s.forEach(add));
     if (!xs.length) return [-100, 100, 0, 150];
@@ -340,6 +339,12 @@
         path(st, false); g.strokeStyle = c; g.stroke();
       }
     }
+    // a scale bar: the largest of 10, 20, 50, 100 mm that fits a fifth of the width
+    const bar = [100, 50, 20, 10, 5].find((mm) => mm * s <= W / 5) || 5;
+    g.strokeStyle = "#1f2b3d"; g.lineWidth = 2; g.setLineDash([]);
+    g.beginPath(); g.moveTo(14, H - 16); g.lineTo(14 + bar * s, H - 16); g.stroke();
+    g.fillStyle = "#4a5568"; g.font = "12px sans-serif"; g.textAlign = "left";
+    g.fillText(bar + " mm", 14, H - 22);
     if (res.truncated) {
       g.fillStyle = "#8f3f21"; g.font = "12px sans-serif"; g.textAlign = "left";
       g.fillText("preview thinned: too many strokes to show them all", 10, 18);
