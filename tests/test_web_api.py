@@ -162,8 +162,28 @@ def test_options_are_passed_to_the_planner_and_unknown_ones_refused(client, png_
     assert r.status_code == 200, r.text
 
 
+def test_progress_of_a_plan_can_be_followed(client, png_bytes):
+    token = "page-0123456789"
+    assert client.get(f"/api/progress/{token}").json()["stage"] == "waiting"
+    r = client.post("/api/plans", data={"style": "centerline"}, headers={"X-Progress-Id": token},
+                    files={"image": ("a.png", png_bytes, "image/png")})
+    assert r.status_code == 200
+    assert client.get(f"/api/progress/{token}").json()["stage"] == "done"
+    assert client.get("/api/progress/bad").status_code == 404
+
+
 def test_built_in_arm_by_name_is_used(client, png_bytes):
     r = _post(client, png_bytes, arm="wide")
+    assert r.status_code == 200, r.text
+
+
+def test_arm_file_text_is_accepted_as_a_field_or_a_file(client, png_bytes):
+    from inkreach.arms.armfile import builtin_arm_text
+    text = builtin_arm_text("serial")
+    assert _post(client, png_bytes, arm=text).status_code == 200
+    r = client.post("/api/plans", data={"style": "centerline"},
+                    files={"image": ("a.png", png_bytes, "image/png"),
+                           "arm": ("my arm.toml", text.encode(), "application/toml")})
     assert r.status_code == 200, r.text
 
 

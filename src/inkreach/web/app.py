@@ -244,25 +244,23 @@ async def _read_body(request, limit):
 
 
 async def _parse_form(request, body):
-    sent = False
+    """Parse a buffered multipart body, keeping every part in memory (never on disk)."""
+    from starlette.formparsers import MultiPartException, MultiPartParser
 
-    async def replay():
-        nonlocal sent
-        if sent:
-            return {"type": "http.disconnect"}
-        sent = True
-        return {"type": "http.request", "body": body, "more_body": False}
+    async def stream():
+        yield body
 
-    req = Request(request.scope, receive=replay)
+    parser = MultiPartParser(request.headers, stream(), max_files=4, max_fields=64,
+                             max_part_size=1_000_000)
+    parser.spool_max_size = len(body) + 1  # uploads stay in memory
     try:
-        form = await req.form(max_files=4, max_fields=64, max_part_size=1_000_000)
-    except StarletteHTTPException as exc:
-        raise _ApiError(400, f"the form could not be read ({exc.detail}); "
-                             "send it as multipart/form-data") from None
+        return await parser.parse()
+    except MultiPartException as exc:
+        raise _ApiError(400, f"the form could not be read ({_one_line(exc.message, 120)}); "
+                             "the upload may have been cut off") from None
     except Exception as exc:
         raise _ApiError(400, f"the form could not be read ({_one_line(exc, 120)}); "
                              "the upload may have been cut off") from None
-    return form
 
 
 async def _field_text(value, what, limit):
