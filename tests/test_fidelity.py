@@ -149,21 +149,22 @@ def test_a_dot_covers_the_area_of_the_pen_disc():
         assert cov.sum() == pytest.approx(np.pi * pen ** 2 / 4, rel=0.1)
 
 
-class _Stream:
-    """A small stand-in for the motion stage's JointStream."""
+def _stream(q, pen, stroke, arm):
+    """A joint stream (the motion stage's value type) from rows of angles."""
+    from inkreach.motion import JointStream
 
-    def __init__(self, q, pen, stroke):
-        self.q, self.pen, self.stroke = q, np.asarray(pen, np.int8), np.asarray(stroke)
-        self.t = np.arange(len(q)) * 0.02
-        self.period = 0.02
+    q = np.asarray(q, float)
+    return JointStream(t=np.arange(len(q)) * 0.02, q=q, pen=np.asarray(pen, np.int8),
+                       xy=arm.fk(q), period=0.02, stroke=np.asarray(stroke, np.int64))
 
 
-class _Placement:
-    """A stand-in placement: image (col, row) -> arm mm by a 2 x 3 affine."""
+def _placement(matrix):
+    """A placement (the place stage's value type) for a given image-to-arm affine."""
+    from inkreach.place import Placement
 
-    def __init__(self, matrix):
-        self.matrix = np.asarray(matrix, float)
-        self.scale = float(np.sqrt(abs(np.linalg.det(self.matrix[:, :2]))))
+    m = np.asarray(matrix, float)
+    scale = float(np.sqrt(abs(np.linalg.det(m[:, :2]))))
+    return Placement(m, scale, 0.0, np.zeros((1, 2)), (0.0, 0.0, 1.0, 1.0), 1.0, (1.0, 1.0))
 
 
 def _stream_along(arm, paths_mm, step=0.3):
@@ -180,7 +181,7 @@ def _stream_along(arm, paths_mm, step=0.3):
         q.append(arm.ik(pts[-1:]))
         pen.append(0)
         sid.append(-1)
-    return _Stream(np.vstack(q), pen, sid)
+    return _stream(np.vstack(q), pen, sid, arm)
 
 
 def test_drawn_paths_split_at_pen_lifts_and_stroke_changes():
@@ -189,7 +190,7 @@ def test_drawn_paths_split_at_pen_lifts_and_stroke_changes():
     arm = default_arm()
     c = np.array([0.0, 150.0])
     q = arm.ik(c + np.array([[0, 0], [1, 0], [2, 0], [3, 0], [4, 0], [5, 0]], float))
-    s = _Stream(q, [1, 1, 0, 1, 1, 1], [0, 0, -1, 1, 1, 2])
+    s = _stream(q, [1, 1, 0, 1, 1, 1], [0, 0, -1, 1, 1, 2], arm)
     paths = drawn_polylines(s, arm)
     assert [len(p) for p in paths] == [2, 2, 1]
     np.testing.assert_allclose(paths[1], arm.fk(q[3:5]), atol=1e-9)
@@ -207,7 +208,7 @@ def test_drawing_from_the_angles_lands_back_on_the_picture():
     scale = 0.4                                             # mm per pixel, rows flipped
     cx, cy = arm.fk(arm.ik(np.array([0.0, 160.0])))
     m = np.array([[scale, 0.0, cx - scale * w / 2], [0.0, -scale, cy + scale * h / 2]])
-    placement = _Placement(m)
+    placement = _placement(m)
     paths_mm = [p @ m[:, :2].T + m[:, 2] for p in lines_px]
     assert np.all(np.isfinite(arm.ik(np.vstack(paths_mm))))
     stream = _stream_along(arm, paths_mm)
@@ -216,7 +217,7 @@ def test_drawing_from_the_angles_lands_back_on_the_picture():
     img = linear_to_srgb(np.clip(target, 0, 1))     # pictures come sRGB-encoded
     f = fidelity((stream, arm, placement), img)
     assert f.tone_error < 0.01 and f.ssim > 0.97
-    empty = _Stream(stream.q, np.zeros(len(stream.q)), -np.ones(len(stream.q)))
+    empty = _stream(stream.q, np.zeros(len(stream.q)), -np.ones(len(stream.q)), arm)
     g = fidelity((empty, arm, placement), img)
     assert g.ssim < f.ssim and g.tone_error > f.tone_error
 
@@ -242,3 +243,32 @@ def test_real_plan_of_the_demo_picture_scores_in_range(style):
     assert np.isfinite(d["ssim"]) and -1.0 <= d["ssim"] <= 1.0
     assert np.isfinite(d["tone_error"]) and 0.0 <= d["tone_error"] <= 1.0
     assert d["ssim"] == round(d["ssim"], 4)
+
+
+@pytest.mark.parametrize("style", ["centerline", "hatch"])
+def test_stage_outputs_of_the_demo_picture_score_in_range(style):
+    # The real stages in turn (trace, place, route, motion) without the planner.
+    from inkreach.arms import default_arm, workspace_map
+    from inkreach.demo import demo_picture
+    from inkreach.motion import plan_motion
+    from inkreach.place import place_drawing, provisional_scale
+    from inkreach.route import order_strokes
+    from inkreach.trace import load_image, trace
+
+    path, _ = demo_picture("emblem")
+    arm = default_arm()
+    wmap = workspace_map(arm)
+    pic = load_image(path, max_side=300)
+    s0 = provisional_scale(pic.original_size, arm, wmap=wmap)
+    strokes = [pic.to_original(s) for s in
+               trace(pic.luminance, style, pen_px=arm.pen.width_mm / (s0 / min(pic.scale_xy)))]
+    placement = place_drawing(strokes, arm, wmap=wmap, image_size=pic.original_size)
+    q0 = arm.home() if arm.home() is not None else arm.ik(placement.hull.mean(0))
+    route = order_strokes(placement.apply_all(strokes), start=arm.fk(q0))
+    stream = plan_motion(route.strokes, arm, start=q0, end=q0, region=placement.hull)
+    f = fidelity((stream, arm, placement), path)
+    blank = _stream(stream.q, np.zeros(len(stream)), -np.ones(len(stream)), arm)
+    g = fidelity((blank, arm, placement), path)
+    assert np.isfinite(f.ssim) and -1.0 <= f.ssim <= 1.0
+    assert np.isfinite(f.tone_error) and 0.0 <= f.tone_error <= 1.0
+    assert f.tone_error < g.tone_error          # drawing it beats leaving the paper blank
