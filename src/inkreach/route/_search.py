@@ -22,6 +22,7 @@ wall-clock guard stops runaway searches on very slow machines.
 
 import math
 import time
+from array import array
 from collections import deque
 
 import numpy as np
@@ -32,13 +33,31 @@ __all__ = []
 _EPS = 1e-9
 
 # Work units per second of budget, measured on the development machine
-# (two cores): one unit is about one node activation.
-UNITS_PER_SECOND = 60_000.0
+# (two cores, busy): one unit is one node activation or one array move
+# (plus one per 2048 entries moved).
+UNITS_PER_SECOND = 150_000.0
 
 
-def default_budget(n_items):
+def joint_time(d, vmax, amax):
+    """Time of a rest-to-rest joint move of ``d`` radians (vectorised).
+
+    Trapezoidal velocity profile: ``d/v + v/a`` when the joint reaches full
+    speed (``d > v^2/a``), else the triangle time ``2 sqrt(d/a)``.
+
+    References
+    ----------
+    .. [1] J. J. Craig, *Introduction to Robotics: Mechanics and Control*,
+       3rd ed., Pearson, 2005, section 7.3 (linear function with parabolic
+       blends).
+    """
+    d = np.abs(np.asarray(d, dtype=float))
+    v, a = float(vmax), float(amax)
+    return np.where(d > v * v / a, d / v + v / a, 2.0 * np.sqrt(d / a))
+
+
+def default_budget(n_items, per_item=100e-6):
     """Default search budget in seconds for ``n_items`` items (common practice)."""
-    return float(min(0.1 + 120e-6 * n_items, 10.0))
+    return float(min(0.1 + per_item * n_items, 10.0))
 
 
 class PathSearch:
@@ -78,14 +97,19 @@ class PathSearch:
         self.has_start = start is not None
         self.start = (0.0, 0.0) if start is None else (float(start[0]), float(start[1]))
         self.vmax, self.amax = float(vmax), float(amax)
-        self.tour = [self.S] + list(order) + [self.D]
-        self.pos = [0] * self.M
-        for i, v in enumerate(self.tour):
-            self.pos[v] = i
+        # array.array gives fast scalar reads in the search loop; the numpy
+        # views over the same memory do the bulk moves.
+        t = np.concatenate([[self.S], np.asarray(order, dtype=np.int64), [self.D]])
+        self.tour = array("q", t.astype(np.int64).tobytes())
+        self.pos = array("q", bytes(8 * self.M))
+        self.tn = np.frombuffer(self.tour, dtype=np.int64)
+        self.pn = np.frombuffer(self.pos, dtype=np.int64)
+        self.pn[self.tn] = np.arange(self.M)
         self._build_dist()
         self.neigh = self._neighbours(np.arange(n))
         self.cost = self._tour_cost()
         self.work = 0
+        self._log = None
 
     # -- distances ---------------------------------------------------------
     def _build_dist(self):
@@ -134,61 +158,72 @@ class PathSearch:
         p = 2 if self.kind == "euclidean" else np.inf
         tree = cKDTree(xy)
         kq = min(self.k + 2, n)
-        _, idx = tree.query(xy[nodes], k=kq, p=p)
-        idx = np.atleast_2d(idx)
+        _, idx = tree.query(xy[nodes], k=kq, p=p, workers=-1)
+        idx = np.asarray(idx).reshape(len(nodes), kq)
         partner = np.asarray(self.partner[:n])
         nodes = np.asarray(nodes)
-        keep = (idx != nodes[:, None]) & (idx != partner[nodes][:, None]) & (idx < n)
-        rows = idx.tolist()
-        kp = keep.tolist()
-        k = self.k
-        out = [[v for v, ok in zip(r, m) if ok][:k] for r, m in zip(rows, kp)]
-        if len(nodes) == n:
-            return out
-        for v, lst in zip(nodes.tolist(), out):
-            self.neigh[v] = lst
-        return self.neigh
+        bad = (idx == nodes[:, None]) | (idx == partner[nodes][:, None]) | (idx >= n)
+        # Push the excluded entries to the end of each row, keep k columns.
+        cols = np.argsort(bad, axis=1, kind="stable")[:, :self.k]
+        idx = np.take_along_axis(idx, cols, 1)
+        bad = np.take_along_axis(bad, cols, 1)
+        out = idx.tolist()
+        if bad.any():
+            for r in np.flatnonzero(bad.any(axis=1)).tolist():
+                out[r] = idx[r][~bad[r]].tolist()
+        return out
 
     def set_xy(self, nodes, xy):
         """Move ``nodes`` to new coordinates and refresh candidate lists."""
         for v, (x, y) in zip(nodes, np.asarray(xy, float).reshape(-1, 2).tolist()):
             self.xs[v], self.ys[v] = x, y
-        self.neigh = self._neighbours(np.arange(self.n))
+        self.neigh[:] = self._neighbours(np.arange(self.n))
         self.cost = self._tour_cost()
 
+    def edge_costs(self, u, w):
+        """Vectorised distance between node arrays ``u`` and ``w``."""
+        u = np.asarray(u, dtype=np.int64)
+        w = np.asarray(w, dtype=np.int64)
+        xy = np.column_stack([self.xs, self.ys, ]) if self.n else np.zeros((0, 2))
+        ext = np.vstack([xy, [self.start, self.start]])
+        d = ext[u] - ext[w]
+        if self.kind == "euclidean":
+            c = np.hypot(d[:, 0], d[:, 1])
+        else:
+            c = joint_time(np.abs(d).max(axis=1), self.vmax, self.amax)
+        dummy = (u == self.D) | (w == self.D) | (u == self.S) & (w == self.S)
+        if not self.has_start:
+            dummy |= (u == self.S) | (w == self.S)
+        return np.where(dummy, 0.0, c)
+
     def _tour_cost(self):
-        t, p, dist = self.tour, self.partner, self.dist
-        M = self.M
-        c = 0.0
-        for i in range(M):
-            u, w = t[i], t[(i + 1) % M]
-            if p[u] != w:
-                c += dist(u, w)
-        return c
+        t = self.tn
+        u, w = t, np.roll(t, -1)
+        free = np.asarray(self.partner)[u] != w
+        return float(self.edge_costs(u[free], w[free]).sum())
 
     # -- array primitives --------------------------------------------------
     def _read(self, i, L):
-        t, M = self.tour, self.M
+        tn, M = self.tn, self.M
         if i + L <= M:
-            return t[i:i + L]
-        return t[i:] + t[:i + L - M]
+            return tn[i:i + L].copy()
+        return np.concatenate([tn[i:], tn[:i + L - M]])
 
     def _write(self, i, vals):
-        t, pos, M = self.tour, self.pos, self.M
+        tn, pn, M = self.tn, self.pn, self.M
         L = len(vals)
+        if self._log is not None:
+            self._log.append((i, self._read(i, L)))
         if i + L <= M:
-            t[i:i + L] = vals
-            for k, v in enumerate(vals, i):
-                pos[v] = k
+            tn[i:i + L] = vals
+            pn[vals] = np.arange(i, i + L)
         else:
             cut = M - i
-            t[i:] = vals[:cut]
-            t[:L - cut] = vals[cut:]
-            for k, v in enumerate(vals[:cut], i):
-                pos[v] = k
-            for k, v in enumerate(vals[cut:]):
-                pos[v] = k
-        self.work += L >> 4
+            tn[i:] = vals[:cut]
+            tn[:L - cut] = vals[cut:]
+            pn[vals[:cut]] = np.arange(i, M)
+            pn[vals[cut:]] = np.arange(L - cut)
+        self.work += 1 + (L >> 11)
 
     def _reverse(self, i, j):
         """Reverse forward positions i..j (cyclic, inclusive), shorter side."""
@@ -198,9 +233,7 @@ class PathSearch:
             i, j, L = (j + 1) % M, (i - 1) % M, M - L
         if L < 2:
             return
-        seg = self._read(i, L)
-        seg.reverse()
-        self._write(i, seg)
+        self._write(i, self._read(i, L)[::-1])
 
     def _move_segment(self, i, L, q, a, c):
         """Move the segment at forward positions i..i+L-1 into gap (q, q+1).
@@ -211,15 +244,15 @@ class PathSearch:
         M = self.M
         seg = self._read(i, L)
         if (self.tour[q] == c) != (seg[0] == a):
-            seg.reverse()
+            seg = seg[::-1]
         j = (i + L - 1) % M
         nb = (q - j) % M
         nb2 = M - L - nb
         if nb <= nb2:
-            self._write(i, self._read((j + 1) % M, nb) + seg)
+            self._write(i, np.concatenate([self._read((j + 1) % M, nb), seg]))
         else:
             q1 = (q + 1) % M
-            self._write(q1, seg + self._read(q1, nb2))
+            self._write(q1, np.concatenate([seg, self._read(q1, nb2)]))
 
     # -- local search ------------------------------------------------------
     def run(self, active=None, work_limit=math.inf, deadline=math.inf):
@@ -317,53 +350,50 @@ class PathSearch:
 
     # -- perturbation ------------------------------------------------------
     def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50):
-        """Iterated local search: random segment swaps kept when they pay."""
+        """Iterated local search: random segment swaps kept when they pay.
+
+        Each kick swaps two adjacent short segments (a double bridge whose
+        fourth edge is far away), repairs with local search from the six
+        touched nodes, and is undone unless the path got shorter.
+        """
         M, n = self.M, self.n
         if n < 8:
             return
-        partner = self.partner
-        best_cost = self.cost
-        best_tour, best_pos = self.tour[:], self.pos[:]
+        partner, tour, dist = self.partner, self.tour, self.dist
         w = min(window, M - 2)
-        for _ in range(kicks):
+        draws = rng.integers(0, 1 << 62, size=(kicks, 3))
+        for p0, r1, r2 in draws.tolist():
             if self.work > work_limit or time.perf_counter() > deadline:
                 break
-            tour = self.tour
-            p0 = int(rng.integers(M))
-            offs = np.sort(rng.choice(np.arange(1, w), size=2, replace=False))
-            cuts = [p0] + [(p0 + int(o)) % M for o in offs]
-            if any(partner[tour[c]] == tour[(c + 1) % M] for c in cuts):
+            p0 %= M
+            o1 = 1 + r1 % (w - 2)
+            o2 = o1 + 1 + r2 % (w - 1 - o1)
+            cuts = (p0, (p0 + o1) % M, (p0 + o2) % M)
+            a0, a1, a2 = tour[cuts[0]], tour[cuts[1]], tour[cuts[2]]
+            b0, b1, b2 = tour[(cuts[0] + 1) % M], tour[(cuts[1] + 1) % M], tour[(cuts[2] + 1) % M]
+            if partner[a0] == b0 or partner[a1] == b1 or partner[a2] == b2:
                 continue
-            a0, b0 = tour[cuts[0]], tour[(cuts[0] + 1) % M]
-            a1, b1 = tour[cuts[1]], tour[(cuts[1] + 1) % M]
-            a2, b2 = tour[cuts[2]], tour[(cuts[2] + 1) % M]
-            dist = self.dist
+            before = self.cost
+            self._log = []
             # A B C E -> A C B E: swap the segments B = b0..a1 and C = b1..a2.
             delta = (dist(a0, b0) + dist(a1, b1) + dist(a2, b2)
                      - dist(a0, b1) - dist(a2, b0) - dist(a1, b2))
             i = (cuts[0] + 1) % M
-            lb = (cuts[1] - cuts[0]) % M
-            lc = (cuts[2] - cuts[1]) % M
-            B = self._read(i, lb)
-            C = self._read((cuts[1] + 1) % M, lc)
-            self._write(i, C + B)
+            B = self._read(i, o1)
+            C = self._read((cuts[1] + 1) % M, o2 - o1)
+            self._write(i, np.concatenate([C, B]))
             self.cost -= delta
-            self.work += 8
             self.run([v for v in (a0, b0, a1, b1, a2, b2) if v < n], work_limit, deadline)
-            if self.cost < best_cost - _EPS:
-                best_cost = self.cost
-                best_tour[:] = self.tour
-                best_pos[:] = self.pos
-            else:
-                self.tour[:] = best_tour
-                self.pos[:] = best_pos
-                self.cost = best_cost
-            self.work += M >> 5
+            log, self._log = self._log, None
+            if self.cost > before - _EPS:
+                for j, old in reversed(log):
+                    self._write(j, old)
+                self.cost = before
 
     # -- result ------------------------------------------------------------
     def path(self):
         """The open path of real nodes, from the start end."""
-        t = np.asarray(self.tour)
+        t = self.tn.copy()
         ps = self.pos[self.S]
         t = np.roll(t, -ps)
         if t[1] == self.D:

@@ -34,7 +34,7 @@ def order_points(points, start=None, time_budget=None):
         begins near ``start``. Without it both ends of the path are free.
     time_budget : float, optional
         Seconds of improvement after the construction (default
-        0.1 s + 120 us per point, at most 10 s). The budget is counted in
+        0.1 s + 100 us per point, at most 10 s). The budget is counted in
         machine-independent work units, so the result is reproducible.
 
     Returns
@@ -66,7 +66,7 @@ def order_points(points, start=None, time_budget=None):
         return np.zeros(0, dtype=np.int64)
     if start is not None:
         start = np.asarray(start, dtype=float).reshape(2)
-    order = nearest_walk(p, p, np.arange(n), n, start=start)
+    order = nearest_walk(p, np.arange(n), np.arange(n), n, start=start)
     if n < 3:
         return _small_best(p, start, order)
     budget = default_budget(n) if time_budget is None else float(time_budget)
