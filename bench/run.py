@@ -127,7 +127,7 @@ def section_speed(cfg, pics, results):
     wmap = workspace_map(arm)
     lines = []
     header = ["picture", "stage", "median s", "× reference"]
-    rows = []
+    rows, notes = [], set()
     for name, (kind, mp, img) in pics.items():
         ref = float(np.median([reference_workload(img) for _ in range(cfg["runs"])]))
         results.setdefault("reference", {})[name] = ref
@@ -163,7 +163,9 @@ def section_speed(cfg, pics, results):
                 s, p, note = end_to_end(img, style)
                 ts.append(s)
             m = float(np.median(ts))
-            label = f"**end to end** ({style}, plan + export)" + (f" [{note}]" if note else "")
+            if note:
+                notes.add(note)
+            label = f"**end to end** ({style}, plan + export)" + (" †" if note else "")
             rows.append([name, label, m, m / ref])
             results.setdefault("e2e", {})[name] = (kind, mp, m, ref)
         except Exception as exc:  # noqa: BLE001
@@ -175,6 +177,8 @@ def section_speed(cfg, pics, results):
                  "building every output file in memory (arm map included). Ratios are to "
                  "the reference workload on the same picture in the same run.\n")
     lines.append(_table(header, rows))
+    for note in sorted(notes):
+        lines.append(f"\n† {note}.")
     return "\n".join(lines)
 
 
@@ -330,6 +334,9 @@ def section_route(cfg, results):
         rows.append([label, n, greedy, ours, lkh, gap, t_greedy, t_ours, t_lkh,
                      (t_ours / t_lkh) if isinstance(t_lkh, float) else "—"])
     results["route"] = (gaps, tratio)
+    growth = [(r[1], r[7]) for r in rows if str(r[0]).startswith("still life stipple")
+              and isinstance(r[7], float)]
+    k = _exponent(*zip(*growth)) if len(growth) >= 2 else float("nan")
     return ("Pen-up travel (mm, approach from the start included) of `order_strokes` "
             "against `greedy_order` (nearest neighbour) and LKH through elkai (one run, "
             "stroke ends as paired nodes, open path from the start; loops entered at their "
@@ -337,7 +344,9 @@ def section_route(cfg, results):
             f"{max(cfg['lkh_sizes'])} strokes to keep time bounded.\n\n"
             + _table(["stroke set", "strokes", "greedy mm", "ours mm", "LKH mm",
                       "ours vs LKH %", "greedy s", "ours s", "LKH s", "ours / LKH time"],
-                     rows))
+                     rows)
+            + f"\n\n`order_strokes` time against stroke count over the stipple subsets: "
+              f"exponent k = {_fmt(k)} (log-log least squares).")
 
 
 def section_kinematics(cfg, results):
