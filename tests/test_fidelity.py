@@ -227,7 +227,6 @@ def test_fidelity_needs_the_picture():
         fidelity(object(), None)
 
 
-@pytest.mark.slow
 @pytest.mark.parametrize("style", ["centerline", "hatch"])
 def test_real_plan_of_the_demo_picture_scores_in_range(style):
     from inkreach.demo import demo_picture
