@@ -52,3 +52,49 @@ def lkh_pen_up(strokes, start=None, runs=1, scale=100.0):
     path = path.reshape(-1, 2)
     assert np.all(path[:, 0] // 2 == path[:, 1] // 2), "LKH broke a stroke"
     return float(np.hypot(*(xy[path[1:, 0]] - xy[path[:-1, 1]]).T).sum())
+
+
+def _random_segments(n, seed, size=200.0):
+    rng = np.random.default_rng(seed)
+    a = rng.random((n, 2)) * size
+    ang = rng.random(n) * 2 * np.pi
+    b = a + np.column_stack([np.cos(ang), np.sin(ang)]) * rng.uniform(1, 8, n)[:, None]
+    return [np.array([p, q]) for p, q in zip(a, b)]
+
+
+def _traced_coins():
+    # scikit-image's shipped "coins" photograph, edges by OpenCV's Canny
+    # detector, traced into polylines with OpenCV's border follower (Suzuki
+    # and Abe 1985); the traced borders are used as open strokes.
+    cv2 = pytest.importorskip("cv2")
+    from skimage import data
+
+    edges = cv2.Canny(data.coins(), 100, 200)
+    contours, _ = cv2.findContours(edges, cv2.RETR_LIST, cv2.CHAIN_APPROX_SIMPLE)
+    return [c[:, 0, :].astype(float) for c in contours if len(c) >= 8]
+
+
+@pytest.mark.parametrize("n, seed, start", [(300, 1, None), (300, 2, (0.0, 0.0)), (200, 3, (100.0, 100.0))])
+def test_order_strokes_pen_up_is_within_ten_percent_of_lkh_on_random_segments(n, seed, start):
+    # Reference: LKH (Helsgaun's implementation of Lin and Kernighan 1973),
+    # through elkai, on the two-nodes-per-stroke reduction above.
+    strokes = _random_segments(n, seed)
+    ours = order_strokes(strokes, start=start).stats.pen_up_mm
+    assert ours <= 1.10 * lkh_pen_up(strokes, start=start)
+
+
+def test_order_strokes_pen_up_is_within_ten_percent_of_lkh_on_a_traced_image():
+    # Reference: LKH through elkai, on strokes traced from skimage.data.coins().
+    strokes = _traced_coins()
+    assert 100 <= len(strokes) <= 600
+    ours = order_strokes(strokes).stats.pen_up_mm
+    assert ours <= 1.10 * lkh_pen_up(strokes)
+
+
+def test_greedy_order_is_clearly_worse_than_lkh():
+    # Common practice: nearest neighbour wastes a sizeable share of pen-up
+    # travel; this guards the comparison above against a weak reference.
+    from inkreach.route import greedy_order
+
+    strokes = _random_segments(300, 4)
+    assert greedy_order(strokes).stats.pen_up_mm >= 1.10 * lkh_pen_up(strokes)

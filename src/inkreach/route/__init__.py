@@ -1,7 +1,12 @@
 """Route: stroke merging, visiting order and direction, travel figures."""
 
+from .joint import pen_up_time, reorder_joint_space
+from .merge import merge_strokes
 from .points import order_points
 from .stats import TravelStats, travel_stats
 from .strokes import Route, greedy_order, order_strokes
 
-__all__ = ["order_points", "order_strokes", "greedy_order", "travel_stats", "TravelStats", "Route"]
+__all__ = [
+    "merge_strokes", "order_points", "order_strokes", "greedy_order",
+    "travel_stats", "TravelStats", "Route", "pen_up_time", "reorder_joint_space",
+]
