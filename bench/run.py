@@ -116,6 +116,11 @@ def machine_facts():
         f"{platform.release()}",
         f"- Python {platform.python_version()}, numpy {np.__version__}, "
         f"OpenCV {cv2.__version__}, scikit-image {skimage.__version__}, scipy {scipy.__version__}",
+        f"- Load average at the start (1, 5, 15 min): "
+        + (", ".join(f"{v:.2f}" for v in os.getloadavg()) if hasattr(os, "getloadavg")
+           else "unknown")
+        + " — other work on the machine slows absolute figures; ratios to the reference "
+          "workload are measured side by side and suffer less.",
     ])
 
 
