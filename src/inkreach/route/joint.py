@@ -155,7 +155,7 @@ def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, s
     search = PathSearch(q, items.partner, seq, start=start, kind="joint", vmax=v, amax=a)
     before = search.cost
     search.run(work_limit=work_limit, deadline=deadline)
-    search.kick_search(np.random.default_rng(seed), kicks=10 * n, work_limit=work_limit,
+    search.kick_search(np.random.default_rng(seed), kicks=30 * n, work_limit=work_limit,
                        deadline=deadline)
     if not search.cost < before - 1e-9:
         return base
