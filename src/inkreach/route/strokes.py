@@ -8,7 +8,7 @@ import numpy as np
 from ..errors import InkreachError
 from ._nearest import nearest_walk
 from ._search import UNITS_PER_SECOND, PathSearch, default_budget
-from .stats import travel_stats
+from .stats import TravelStats, travel_stats
 
 __all__ = ["Route", "order_strokes", "greedy_order"]
 
