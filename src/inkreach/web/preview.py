@@ -35,7 +35,7 @@ def decimate_strokes(strokes, max_points=8000, tol=0.1, decimals=2):
     ----------
     .. [1] D. H. Douglas and T. K. Peucker, "Algorithms for the reduction of
        the number of points required to represent a digitized line or its
-       caricature", Cartographica 10(2), 1973.
+       caricature", Cartographica 10(2), 1973 (as in :func:`cv2.approxPolyDP`).
 
     Examples
     --------
@@ -45,7 +45,7 @@ def decimate_strokes(strokes, max_points=8000, tol=0.1, decimals=2):
     >>> out, cut
     ([[[0.0, 0.0], [10.0, 0.0]]], False)
     """
-    from skimage.measure import approximate_polygon
+    import cv2
 
     polys = []
     for s in strokes:
@@ -54,7 +54,7 @@ def decimate_strokes(strokes, max_points=8000, tol=0.1, decimals=2):
         if len(a) == 0:
             continue
         if len(a) > 2 and tol > 0:
-            a = approximate_polygon(a, tolerance=tol)
+            a = cv2.approxPolyDP(a.astype(np.float32).reshape(-1, 1, 2), tol, False).reshape(-1, 2).astype(float)
         polys.append(a)
     truncated = False
     n = np.array([len(a) for a in polys], dtype=int)
