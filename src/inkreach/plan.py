@@ -16,7 +16,8 @@ PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest"
 #: Options of the motion stage, with their defaults.
 MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
 #: Options of the planner itself.
-PLAN_OPTIONS = {"max_side": 1200, "joint_order": True, "signals": "auto", "start": None}
+PLAN_OPTIONS = {"max_side": 1200, "max_pixels": 40_000_000, "joint_order": True,
+                "signals": "auto", "start": None, "fidelity": True}
 
 
 @dataclass(frozen=True, eq=False)
@@ -193,7 +194,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         ``rotations``), motion options (``chord_tol`` mm, ``period`` s,
         ``tip_speed`` mm/s) and ``max_side`` (working resolution, px),
         ``joint_order`` (reorder by joint-space time), ``signals``
-        (``"auto"``, ``"servo"``, ``"stepper"`` or ``"both"``).
+        (``"auto"``, ``"servo"``, ``"stepper"`` or ``"both"``), ``start``
+        (rest posture in degrees) and ``fidelity`` (score the drawing).
 
     Returns
     -------
@@ -213,6 +215,9 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
 
     step = _progress(progress)
     options = dict(options)
+    if "pen_px" in options:
+        raise InkreachError("option pen_px is set from the arm's pen width; change [pen] "
+                            "width_mm in the arm file instead")
     place_opts, motion_opts, own, style_opts = _split_options(options)
     for k in ("chord_tol", "period", "tip_speed"):
         motion_opts[k] = _positive(k, motion_opts[k])
@@ -229,7 +234,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         raise InkreachError("the arm's usable region is too small for any drawing; "
                             "widen the joint limits or lower min_conditioning")
     step("load", 0, 1)
-    pic = load_image(image, max_side=max_side)
+    pic = load_image(image, max_side=max_side,
+                     max_pixels=int(_positive("max_pixels", own["max_pixels"], allow_none=False)))
     W, H = pic.original_size
     s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
                                                        ("paper", "margin", "size")})
@@ -260,10 +266,15 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     travel = travel_stats(route.strokes, start=start_xy)
     stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
     used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
+            "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
              image_size=(int(W), int(H)))
+    if own["fidelity"]:
+        step("fidelity", 0, 1)
+        from .fidelity import plan_fidelity
+        stats["fidelity"] = plan_fidelity(p, image)
     step("done", 1, 1)
     return p
 
