@@ -258,8 +258,10 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     if own["joint_order"]:
         route = reorder_joint_space(route, arm, start_q=start_q)
     step("motion", 0, 1)
-    stream = plan_motion(route.strokes, arm, start=start_q, end=start_q,
-                         region=placement.hull, **motion_opts)
+    hull = np.asarray(placement.hull, dtype=float)
+    region = hull if len(hull) >= 3 and abs(_area(hull)) > 1e-6 else None
+    stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
+                         **motion_opts)
     step("check", 0, 1)
     report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
     signals = make_signals(stream, arm, kind=own["signals"])
@@ -312,6 +314,11 @@ def _stats(travel, stream, report, placement, arm, style, strokes):
         "arm": arm.name,
     }
     return stats
+
+
+def _area(poly):
+    x, y = poly[:, 0], poly[:, 1]
+    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
 
 
 def _progress(cb):
