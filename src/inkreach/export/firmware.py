@@ -6,6 +6,7 @@ import textwrap
 import numpy as np
 
 from ..errors import InkreachError
+from ._text import join_rows, line_breaks, number_matrix
 from .safety import SAFETY_TEXT
 
 __all__ = ["firmware_header"]
@@ -15,19 +16,23 @@ _PER_LINE = 8  # rows (or bytes) per source line
 
 def _rows(values, per_line=_PER_LINE):
     """C initialiser lines ``{a, b}, {c, d}, ...`` for an (N, 2) integer array."""
-    v = np.asarray(values, dtype=np.int64)
+    v = np.asarray(values, dtype=np.int64).reshape(-1, 2)
     n = len(v)
-    text = ("{%d, %d}, " * n) % tuple(v.ravel().tolist())
-    items = text.rstrip(", ").split(", {")
-    items = [items[0]] + ["{" + s for s in items[1:]]
-    return ",\n".join("  " + ", ".join(items[i:i + per_line]) for i in range(0, n, per_line))
+    starts = np.where(np.arange(n) % per_line == 0, b"  {", b"{")
+    seps = line_breaks(n, per_line, b", ", b",\n")
+    return join_rows([starts, number_matrix(v[:, 0], 0), b", ", number_matrix(v[:, 1], 0),
+                      b"}", seps], n)
+
+
+_HEX = np.array([b"0x%02x" % i for i in range(256)])
 
 
 def _bytes(values, per_line=16):
+    """C initialiser lines ``0x01, 0x02, ...`` of byte values, ``per_line`` a line."""
     v = np.asarray(values, dtype=np.int64)
-    parts = [("0x%02x, " * len(v[i:i + per_line])) % tuple(v[i:i + per_line].tolist())
-             for i in range(0, len(v), per_line)]
-    return "\n".join("  " + p.rstrip() for p in parts).rstrip(",")
+    n = len(v)
+    starts = np.where(np.arange(n) % per_line == 0, b"  ", b"")
+    return join_rows([starts, _HEX[v], line_breaks(n, per_line, b", ", b",\n")], n)
 
 
 def firmware_header(stream, servo_signals=None, stepper_signals=None, name="inkreach_plan"):

@@ -6,6 +6,7 @@ import math
 import numpy as np
 
 from ..errors import InkreachError
+from ._text import join_rows, number_matrix, scaled
 from .safety import SAFETY_TEXT
 
 try:  # Python 3.11+
@@ -66,17 +67,35 @@ def _arm_table(arm):
 
 
 def _strokes_text(strokes):
-    """The strokes array, one stroke per line, coordinates rounded to 1e-4 mm."""
-    lines = []
-    for s in strokes:
-        a = np.asarray(s, dtype=float).reshape(-1, 2)
-        if not np.all(np.isfinite(a)):
-            raise InkreachError("a stroke holds a point that is not finite; re-place the drawing")
-        a = np.round(a, 4) + 0.0
-        lines.append(json.dumps(a.tolist(), separators=(", ", ": ")))
-    if not lines:
+    """The strokes array, one stroke per line, coordinates rounded to 1e-4 mm.
+
+    Numbers are written as ``json.dumps`` writes the rounded floats (their
+    shortest text), built for all points at once.
+    """
+    arrays = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
+    if not arrays:
         return "[]"
-    return "[\n    " + ",\n    ".join(lines) + "\n  ]"
+    pts = np.concatenate(arrays)
+    if not np.all(np.isfinite(pts)):
+        raise InkreachError("a stroke holds a point that is not finite; re-place the drawing")
+    k = scaled(pts, 4)
+    if k is None or any(not len(a) for a in arrays):  # rare: let json write them
+        lines = [json.dumps((np.round(a, 4) + 0.0).tolist(), separators=(", ", ": "))
+                 for a in arrays]
+        return "[\n    " + ",\n    ".join(lines) + "\n  ]"
+    n = len(pts)
+    ends = np.cumsum([len(a) for a in arrays])
+    first = np.zeros(n, bool)
+    first[0] = True
+    first[ends[:-1]] = True
+    last = np.zeros(n, bool)
+    last[ends - 1] = True
+    opening = np.where(first, b"[[", b"[")
+    closing = np.where(last, b"]],\n    ", b"], ")
+    closing[-1] = b"]]"
+    body = join_rows([opening, number_matrix(k[:, 0], 4, strip=True), b", ",
+                      number_matrix(k[:, 1], 4, strip=True), closing], n)
+    return "[\n    " + body + "\n  ]"
 
 
 def plan_json(strokes, image_to_arm, stats, extra=None):
