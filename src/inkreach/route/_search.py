@@ -110,6 +110,7 @@ class PathSearch:
         self.pn = np.frombuffer(self.pos, dtype=np.int64)
         self.pn[self.tn] = np.arange(self.M)
         self._build_dist()
+        self.live = n + 1 if self.has_start else n  # nodes that can be activated
         self.neigh = self._neighbours(np.arange(n))
         self.cost = self._tour_cost()
         self.work = 0
@@ -157,7 +158,7 @@ class PathSearch:
         """Candidate lists (sorted nearest first) for ``nodes``."""
         n = self.n
         if n < 2:
-            return [[] for _ in range(n)]
+            return [[] for _ in range(n + 2)]
         xy = np.column_stack([self.xs, self.ys])
         p = 2 if self.kind == "euclidean" else np.inf
         tree = cKDTree(xy)
@@ -175,13 +176,38 @@ class PathSearch:
         if bad.any():
             for r in np.flatnonzero(bad.any(axis=1)).tolist():
                 out[r] = idx[r][~bad[r]].tolist()
-        return out
+        if self.has_start:
+            # The start node is a candidate of the nodes nearest to it, so
+            # moves can change where the path begins.
+            row = {int(v): r for r, v in enumerate(nodes.tolist())}
+            _, near = tree.query(self.start, k=min(self.k, n), p=p)
+            for v in np.atleast_1d(near).tolist():
+                r = row.get(v)
+                if r is None:
+                    continue
+                lst = out[r]
+                ds = self.dist(v, self.S)
+                j = 0
+                while j < len(lst) and self.dist(v, lst[j]) <= ds:
+                    j += 1
+                lst.insert(j, self.S)
+        s_list = []
+        if self.has_start:
+            s_list = [v for v in np.atleast_1d(near).tolist() if v < n]
+        return out + [s_list, []]
 
     def set_xy(self, nodes, xy):
         """Move ``nodes`` to new coordinates and refresh candidate lists."""
         for v, (x, y) in zip(nodes, np.asarray(xy, float).reshape(-1, 2).tolist()):
             self.xs[v], self.ys[v] = x, y
-        self.neigh[:] = self._neighbours(np.arange(self.n))
+        self.neigh = self._neighbours(np.arange(self.n))
+        self.cost = self._tour_cost()
+
+    def set_order(self, order):
+        """Replace the tour by the open path ``order`` of real nodes."""
+        t = np.concatenate([[self.S], np.asarray(order, dtype=np.int64), [self.D]])
+        self.tn[:] = t
+        self.pn[t] = np.arange(self.M)
         self.cost = self._tour_cost()
 
     def edge_costs(self, u, w):
@@ -265,7 +291,8 @@ class PathSearch:
         M, n = self.M, self.n
         if M < 5:
             return
-        queue = deque(range(n) if active is None else active)
+        live = self.live
+        queue = deque(range(live) if active is None else active)
         inq = bytearray(M)
         for v in queue:
             inq[v] = 1
@@ -281,7 +308,7 @@ class PathSearch:
             touched = self._improve_node(a, tour, pos, partner, neigh, dist, M)
             if touched:
                 for v in touched:
-                    if v < n and not inq[v]:
+                    if v < live and not inq[v]:
                         inq[v] = 1
                         queue.append(v)
                 if not inq[a]:
@@ -387,7 +414,7 @@ class PathSearch:
             C = self._read((cuts[1] + 1) % M, o2 - o1)
             self._write(i, np.concatenate([C, B]))
             self.cost -= delta
-            self.run([v for v in (a0, b0, a1, b1, a2, b2) if v < n], work_limit, deadline)
+            self.run([v for v in (a0, b0, a1, b1, a2, b2) if v < self.live], work_limit, deadline)
             log, self._log = self._log, None
             if self.cost > before - _EPS:
                 for j, old in reversed(log):

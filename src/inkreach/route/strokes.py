@@ -4,9 +4,12 @@ import time
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.spatial import cKDTree
 
 from ..errors import InkreachError
+from ._greedy import greedy_path
 from ._nearest import nearest_walk
+from ._orient import orient
 from ._search import UNITS_PER_SECOND, PathSearch, default_budget
 from .stats import TravelStats, travel_stats
 
@@ -135,6 +138,84 @@ class _Items:
         second = np.where(two, self.partner[nodes], -1)
         seq = np.column_stack([nodes, second]).ravel()
         return seq[seq >= 0]
+
+    def seed_entries(self):
+        """Enter each loop at the sampled vertex closest to two other items.
+
+        A cheap stand-in for the loop's neighbours before any order exists:
+        the vertex whose two nearest entry points of other items are
+        nearest (sum of the two distances).
+        """
+        cl = np.flatnonzero(self.closed)
+        if not len(cl):
+            return
+        sel = np.flatnonzero(self.closed[self.pitem])
+        k = min(8, len(self.pxy))
+        d, j = cKDTree(self.pxy).query(self.pxy[sel], k=k, workers=-1)
+        d = np.asarray(d).reshape(len(sel), k)
+        j = np.asarray(j).reshape(len(sel), k)
+        foreign = self.pitem[np.minimum(j, len(self.pxy) - 1)] != self.pitem[sel][:, None]
+        d = np.where(foreign & (j < len(self.pxy)), d, np.inf)
+        d.sort(axis=1)
+        score = d[:, 0] + (d[:, 1] if k > 1 else 0.0)
+        it = self.pitem[sel]
+        o = np.lexsort((score, it))
+        keep = np.ones(len(o), dtype=bool)
+        keep[1:] = it[o][1:] != it[o][:-1]
+        best = sel[o[keep]]
+        self.vertex[self.pitem[best]] = self.pvert[best]
+        self.xy[self.base[self.pitem[best]]] = self.pxy[best]
+
+    def greedy(self, start):
+        """Greedy-edge node order (loop entries as set)."""
+        return greedy_path(self.xy, self.partner, start)
+
+    def _loop_candidates(self):
+        if not hasattr(self, "_cands"):
+            sel = np.flatnonzero(self.closed[self.pitem])
+            it = self.pitem[sel]
+            cuts = np.flatnonzero(np.diff(it)) + 1
+            self._cands = {int(i[0]): (v, p) for i, v, p in zip(
+                np.split(it, cuts), np.split(self.pvert[sel], cuts), np.split(self.pxy[sel], cuts))} \
+                if len(sel) else {}
+        return self._cands
+
+    def orient(self, path, start):
+        """Best directions and loop entries (sampled) for the order of ``path``.
+
+        Returns the new node order, its pen-up cost, and the loop nodes
+        whose entry changed.
+        """
+        path = np.asarray(path, dtype=np.int64)
+        items = self.item_of_node[path]
+        keep = np.ones(len(path), dtype=bool)
+        keep[1:] = items[1:] != items[:-1]
+        order = items[keep]
+        cands = {}
+        for i, (vi, pts) in self._loop_candidates().items():
+            v = self.vertex[i]
+            cands[i] = (np.append(vi, v), np.vstack([pts, self.strokes[i][v:v + 1]]))
+        if not hasattr(self, "_first"):
+            self._first = np.array([s[0] for s in self.strokes]).reshape(-1, 2)
+            self._last = np.array([s[-1] for s in self.strokes]).reshape(-1, 2)
+        cost, state = orient(self._first, self._last, {i: c[1] for i, c in cands.items()}, order, start)
+        cl = self.closed[order]
+        moved = []
+        for k in np.flatnonzero(cl).tolist():
+            i = int(order[k])
+            vi, pts = cands[i]
+            v = int(vi[state[k]])
+            if v != self.vertex[i]:
+                moved.append(int(self.base[i]))
+                self.vertex[i] = v
+                self.xy[self.base[i]] = pts[state[k]]
+        two = self.nnodes[order] == 2
+        b = self.base[order]
+        rev = two & (state == 1)
+        a1 = np.where(rev, b + 1, b)
+        a2 = np.where(two, np.where(rev, b, b + 1), -1)
+        seq = np.column_stack([a1, a2]).ravel()
+        return seq[seq >= 0], cost, moved
 
     def route(self, path, start):
         """Route from an open path of nodes."""
@@ -291,21 +372,40 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     if not strokes:
         return _empty()
     items = _Items(strokes)
-    seq = items.initial(start)
+    items.seed_entries()
+    seq, _, _ = items.orient(items.greedy(start), start)
     n = len(strokes)
     budget = default_budget(n, per_item=100e-6) if time_budget is None else float(time_budget)
     search = PathSearch(items.xy, items.partner, seq, start=start)
     work_limit = budget * UNITS_PER_SECOND
     deadline = time.perf_counter() + 4.0 * budget + 1.0
     search.run(work_limit=work_limit, deadline=deadline)
+    _reorient(items, search, start, work_limit, deadline)
     has_loops = bool(items.closed.any())
     if has_loops:
         _entry_rounds(items, search, start, work_limit, deadline)
     rng = np.random.default_rng(seed)
     search.kick_search(rng, kicks=_KICKS_PER_ITEM * n, work_limit=work_limit, deadline=deadline)
+    _reorient(items, search, start, 1.1 * work_limit, deadline)
     if has_loops:
         _entry_rounds(items, search, start, 1.1 * work_limit, deadline)
     return items.route(search.path(), start)
+
+
+def _reorient(items, search, start, work_limit, deadline):
+    """Exact directions and loop entries for the search's order; re-search if it paid."""
+    old = search.path()
+    seq, cost, moved = items.orient(old, start)
+    if cost < search.cost - 1e-9:
+        if moved:
+            search.set_xy(moved, items.xy[moved])
+        search.set_order(seq)
+        changed = np.flatnonzero(seq != old)
+        active = np.unique(np.concatenate([seq[np.clip(changed + d, 0, len(seq) - 1)]
+                                           for d in (-1, 0, 1)] + [np.asarray(moved, np.int64)]))
+        if search.has_start:
+            active = np.append(active, search.S)
+        search.run(active.tolist(), work_limit=work_limit, deadline=deadline)
 
 
 def _entry_rounds(items, search, start, work_limit, deadline, rounds=3):
@@ -321,4 +421,4 @@ def _entry_rounds(items, search, start, work_limit, deadline, rounds=3):
         for v in moved:
             p = pos[v]
             active.update((search.tour[(p + 1) % M], search.tour[(p - 1) % M]))
-        search.run(sorted(a for a in active if a < search.n), work_limit, deadline)
+        search.run(sorted(a for a in active if a < search.live), work_limit, deadline)
