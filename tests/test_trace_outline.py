@@ -37,7 +37,9 @@ def test_outline_strokes_lie_on_canny_edges(name):
     d, _ = tree.query(np.concatenate(outline(lum, smooth=0, simplify=0)))
     assert d.max() <= 1.0 + 1e-9                   # the pixel path itself
     d, _ = tree.query(np.concatenate(outline(lum, simplify=0)))
-    assert np.quantile(d, 0.99) <= 1.0 and d.max() <= 2.0   # smoothed, still on the edges
+    # Smoothed: sub-pixel off the pixel chain, except corners moved out to
+    # where their straight arms meet (at most 2 * round(2 * sigma) = 8 px).
+    assert np.median(d) <= 0.5 and np.quantile(d, 0.99) <= 1.2 and d.max() <= 8.0
 
 
 def test_outline_defaults_give_few_long_strokes_on_a_photo():

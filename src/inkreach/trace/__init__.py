@@ -12,6 +12,7 @@ from .load import Picture, load_image
 from .outline import outline, outline_edges
 from .render import render_strokes
 from .simplify import polyline_lengths, simplify_polylines
+from .smooth import find_corners, smooth_polylines
 from .srgb import linear_to_srgb, srgb_to_linear
 from .stipple import stipple
 from .styles import STYLES, style_options, trace
@@ -21,5 +22,5 @@ __all__ = [
     "trace", "STYLES", "style_options",
     "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
     "trace_skeleton", "trail_decomposition", "render_strokes",
-    "simplify_polylines", "polyline_lengths",
+    "simplify_polylines", "polyline_lengths", "smooth_polylines", "find_corners",
 ]

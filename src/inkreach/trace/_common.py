@@ -4,6 +4,7 @@ import numpy as np
 
 from ..errors import InkreachError
 from .simplify import polyline_lengths, simplify_polylines
+from .smooth import smooth_polylines
 from .srgb import linear_to_srgb
 
 
@@ -33,9 +34,17 @@ def default_min_length(shape):
     return max(3.0, 0.01 * max(shape))
 
 
-def finish(strokes, style, min_length=0.0, simplify=0.0):
-    """Filter short strokes, simplify, and refuse an empty drawing."""
+def finish(strokes, style, min_length=0.0, simplify=0.0, smooth=0.0, shape=None):
+    """Smooth, simplify, filter short strokes, and refuse an empty drawing.
+
+    With ``shape`` (H, W) the strokes are kept on the picture.
+    """
     strokes = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
+    if smooth > 0:
+        strokes = smooth_polylines(strokes, smooth)
+    if shape is not None:
+        hi = np.array([shape[1] - 1, shape[0] - 1], dtype=float)
+        strokes = [np.clip(s, 0.0, hi) for s in strokes]
     if simplify > 0:
         strokes = simplify_polylines(strokes, simplify)
     if min_length > 0 and strokes:

@@ -64,6 +64,8 @@ _PEN = (2.0, "pen width in working pixels", _Number(0.0, 100.0, lo_open=True))
 _MIN_LEN = (None, "drop strokes shorter than this many pixels (None: about 1% of the picture)",
             _Number(0.0, none_ok=True))
 _SIMPLIFY = "straighten wiggles smaller than this many pixels (0: keep every pixel)"
+_SMOOTH = (2.0, "smooth each stroke along its length over this many pixels, keeping corners "
+                "(0: follow the pixels)", _Number(0.0, 20.0))
 
 OPTIONS = {
     "outline": {
@@ -77,6 +79,7 @@ OPTIONS = {
         "blur": (None, "smoothing before finding edges, in pixels (None: from picture size)",
                  _Number(0.0, 50.0, none_ok=True)),
         "min_length": _MIN_LEN,
+        "smooth": _SMOOTH,
         "simplify": (0.6, _SIMPLIFY, _Number(0.0, 50.0)),
     },
     "centerline": {
@@ -86,6 +89,7 @@ OPTIONS = {
         "min_length": _MIN_LEN,
         "prune": (None, "cut side branches shorter than this many pixels (None: from line width)",
                   _Number(0.0, none_ok=True)),
+        "smooth": _SMOOTH,
         "simplify": (0.6, _SIMPLIFY, _Number(0.0, 50.0)),
     },
     "hatch": {

@@ -77,7 +77,7 @@ def ink_mask(lum, threshold="auto"):
 
 
 def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None,
-               simplify=0.6):
+               smooth=2.0, simplify=0.6):
     """Draw the centre lines of the dark lines of a picture.
 
     Parameters
@@ -94,8 +94,11 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
     prune : float, optional
         Side branches shorter than this are cut; default 2.5 times the
         typical half-width of the lines, at least 3 px.
+    smooth : float, optional
+        Gaussian sigma in pixels along each stroke, corners and ends kept
+        (see `smooth_polylines`); removes the pixel staircase.
     simplify : float, optional
-        Ramer-Douglas-Peucker tolerance in pixels.
+        Ramer-Douglas-Peucker tolerance in pixels, applied after smoothing.
 
     Returns
     -------
@@ -125,7 +128,7 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
     """
     o = _options.check("centerline", dict(pen_px=pen_px, threshold=threshold,
                                           min_length=min_length, prune=prune,
-                                          simplify=simplify))
+                                          smooth=smooth, simplify=simplify))
     lum = as_luminance(lum)
     ink = ink_mask(lum, o["threshold"])
     speck = max(2, int(round(0.5 * o["pen_px"] ** 2)))
@@ -141,5 +144,5 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
     else:
         prune = o["prune"]
     ml = default_min_length(lum.shape) if o["min_length"] is None else o["min_length"]
-    strokes = trace_skeleton(skel, prune=prune)
-    return finish(strokes, "centerline", ml, o["simplify"])
+    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"])
+    return finish(strokes, "centerline", ml, o["simplify"], 0.0, lum.shape)

@@ -15,6 +15,7 @@ from scipy import ndimage, sparse
 from scipy.sparse import csgraph
 
 from .simplify import polyline_lengths, simplify_polylines
+from .smooth import smooth_polylines
 
 __all__ = ["trace_skeleton", "trail_decomposition"]
 
@@ -404,7 +405,7 @@ def _prune_spurs(edge_u, edge_v, paths, prune):
     return edge_u[keep], edge_v[keep], [p for p, k in zip(paths, keep) if k]
 
 
-def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
+def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0, smooth=0):
     """Trace a one-pixel-wide skeleton into the fewest polylines.
 
     Parameters
@@ -419,6 +420,9 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
         Strokes shorter than this many pixels are dropped at the end.
     simplify : float, optional
         Ramer-Douglas-Peucker tolerance in pixels; 0 keeps every pixel.
+    smooth : float, optional
+        Gaussian sigma in pixels along each stroke before simplifying, see
+        `smooth_polylines`; ends on junctions stay put, free ends do not.
 
     Returns
     -------
@@ -459,7 +463,9 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
     if len(paths) == 0:
         return []
     n_nodes = max(len(node_xy), int(max(eu.max(), ev.max())) + 1)
-    strokes = []
+    deg = np.bincount(eu, minlength=n_nodes) + np.bincount(ev, minlength=n_nodes)
+    node_of_end = np.stack([eu, ev], axis=1).ravel()
+    strokes, pins = [], []
     for steps in _decompose(eu, ev, _end_dirs(paths), n_nodes):
         parts = []
         for a in steps:
@@ -467,6 +473,10 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0):
             p = p if a % 2 == 0 else p[::-1]
             parts.append(p if not parts else p[1:])
         strokes.append(np.concatenate(parts))
+        # Entry end a of the first edge, exit end (a ^ 1) of the last.
+        pins.append((deg[node_of_end[steps[0]]] > 1, deg[node_of_end[steps[-1] ^ 1]] > 1))
+    if smooth > 0:
+        strokes = smooth_polylines(strokes, smooth, pinned=pins)
     if simplify > 0:
         strokes = simplify_polylines(strokes, simplify)
     if min_length > 0:

@@ -106,7 +106,7 @@ def outline_edges(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None
 
 
 def outline(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None,
-            min_length=None, simplify=0.6):
+            min_length=None, smooth=2.0, simplify=0.6):
     """Draw the edges of a picture.
 
     Parameters
@@ -120,8 +120,11 @@ def outline(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None,
     min_length : float, optional
         Strokes shorter than this many pixels are dropped; default about 1 %
         of the picture's long side.
+    smooth : float, optional
+        Gaussian sigma in pixels along each stroke, corners and ends kept
+        (see `smooth_polylines`); removes the pixel staircase.
     simplify : float, optional
-        Ramer-Douglas-Peucker tolerance in pixels.
+        Ramer-Douglas-Peucker tolerance in pixels, applied after smoothing.
 
     Returns
     -------
@@ -149,11 +152,12 @@ def outline(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None,
     (1, True)
     """
     o = _options.check("outline", dict(pen_px=pen_px, detail=detail, low=low, high=high,
-                                       blur=blur, min_length=min_length, simplify=simplify))
+                                       blur=blur, min_length=min_length, smooth=smooth,
+                                       simplify=simplify))
     lum = as_luminance(lum)
     edges = outline_edges(lum, pen_px=pen_px, detail=detail, low=low, high=high, blur=blur)
     skel = skeletonize(edges)
     ml = default_min_length(lum.shape) if o["min_length"] is None else o["min_length"]
     prune = max(2.0 * o["pen_px"], 3.0)
-    strokes = trace_skeleton(skel, prune=prune)
-    return finish(strokes, "outline", ml, o["simplify"])
+    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"])
+    return finish(strokes, "outline", ml, o["simplify"], 0.0, lum.shape)

@@ -71,11 +71,25 @@ def simplify_polylines(polylines, tolerance):
     for p in polylines:
         p = np.asarray(p, dtype=float).reshape(-1, 2)
         if tolerance > 0 and len(p) > 2:
-            # OpenCV's approxPolyDP is the same recursive algorithm, in C;
-            # as an open curve it keeps both end points.
-            q = cv2.approxPolyDP(p.astype(np.float32).reshape(-1, 1, 2), float(tolerance), False)
-            q = q.reshape(-1, 2).astype(float)
-            q[0], q[-1] = p[0], p[-1]   # exact ends, not their float32 copies
-            p = q
+            if len(p) > 3 and np.array_equal(p[0], p[-1]):
+                # A closed curve: split it at the point farthest from its
+                # start, as the end-to-end chord of a loop has no length.
+                far = int(np.argmax(np.hypot(*(p - p[0]).T)))
+                a = _rdp(p[:far + 1], tolerance)
+                b = _rdp(p[far:], tolerance)
+                p = np.concatenate([a, b[1:]])
+            else:
+                p = _rdp(p, tolerance)
         out.append(np.array(p, dtype=float))
     return out
+
+
+def _rdp(p, tolerance):
+    if len(p) <= 2:
+        return p
+    # OpenCV's approxPolyDP is the same recursive algorithm, in C; as an
+    # open curve it keeps both end points.
+    q = cv2.approxPolyDP(p.astype(np.float32).reshape(-1, 1, 2), float(tolerance), False)
+    q = q.reshape(-1, 2).astype(float)
+    q[0], q[-1] = p[0], p[-1]   # exact ends, not their float32 copies
+    return q
