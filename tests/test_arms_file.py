@@ -71,7 +71,7 @@ def test_arm_file_round_trips_through_toml(tmp_path):
     ("left_upper = 100.0", "left_upper = nan", "finite"),
     ("left_upper = 100.0", "left_upper = inf", "finite"),
     ("left_upper = 100.0", 'left_upper = "long"', "must be a number"),
-    ("theta1_deg = [20.0, 220.0]", "theta1_deg = [220.0, 20.0]", "reversed"),
+    ("theta1_deg = [30.0, 210.0]", "theta1_deg = [210.0, 30.0]", "reversed"),
     ("min_conditioning = 0.3", "min_conditioning = 0.0", "in (0, 1]"),
     ("min_conditioning = 0.3", "min_conditioning = 1.5", "in (0, 1]"),
     ('elbows = "out"', 'elbows = "sideways"', "elbows must be"),

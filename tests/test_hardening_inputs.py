@@ -134,7 +134,7 @@ def _arm_variant(tmp, old, new, name="bad.toml"):
     ("left_upper = 100.0", "left_upper = 0.0", "greater than zero"),
     ("left_upper = 100.0", "left_upper = nan", "finite"),
     ("left_upper = 100.0", "left_upper = inf", "finite"),
-    ("theta2_deg = [-40.0, 160.0]", "theta2_deg = [160.0, -40.0]", "reversed"),
+    ("theta2_deg = [-30.0, 150.0]", "theta2_deg = [150.0, -30.0]", "reversed"),
     ("min_conditioning = 0.3", "min_conditioning = 0.0", "min_conditioning"),
     ("min_conditioning = 0.3", "min_conditioning = 1.2", "min_conditioning"),
     ("right_motor = [40.0, 0.0]", "right_motor = [900.0, 0.0]", "cannot close"),

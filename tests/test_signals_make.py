@@ -4,7 +4,13 @@ import pytest
 from inkreach.arms import arm_to_toml, default_arm, load_arm, parse_arm
 from inkreach.errors import InkreachError
 from inkreach.motion import JointStream
-from inkreach.signals import make_signals, quantised_angles
+from inkreach.signals import servo_calibration_from_arm, make_signals, quantised_angles
+
+
+def _bare_default():
+    """The default arm without its hardware tables (the tests add their own)."""
+    from dataclasses import replace
+    return replace(default_arm(), hardware={})
 
 
 def _line_stream(arm, n=30):
@@ -16,7 +22,7 @@ def _line_stream(arm, n=30):
 
 
 def test_make_signals_follows_the_arm_file_tables():
-    base = arm_to_toml(default_arm())
+    base = arm_to_toml(_bare_default())
     only_stepper = parse_arm(base + "\n[stepper]\nmicrosteps = 8\n")
     s = _line_stream(only_stepper)
     assert sorted(make_signals(s, only_stepper)) == ["stepper"]
@@ -27,22 +33,26 @@ def test_make_signals_follows_the_arm_file_tables():
 
 
 def test_make_signals_auto_without_tables_skips_servos_that_cannot_reach():
-    arm = load_arm("serial")
+    from dataclasses import replace
+    arm = replace(load_arm("serial"), hardware={})   # no [servo] or [stepper] table
     s = _line_stream(arm)
     got = make_signals(s, arm)
     assert "stepper" in got
     deg = np.rad2deg(s.q)
-    assert ("servo" in got) == bool(np.all((deg[:, 0] >= 0) & (deg[:, 0] <= 180)))
+    cal = servo_calibration_from_arm(arm)
+    fits = all(np.all((deg[:, m] >= cal.angle_range(m)[0]) & (deg[:, m] <= cal.angle_range(m)[1]))
+               for m in (0, 1))
+    assert ("servo" in got) == bool(fits)
 
 
 def test_make_signals_refuses_an_unknown_kind():
-    arm = default_arm()
+    arm = _bare_default()
     with pytest.raises(InkreachError, match="signals 'pwm' is unknown"):
         make_signals(_line_stream(arm), arm, kind="pwm")
 
 
 def test_quantised_angles_takes_a_signal_dict_and_prefers_steppers():
-    arm = default_arm()
+    arm = _bare_default()
     s = _line_stream(arm)
     sig = make_signals(s, arm, kind="both")
     from_dict = quantised_angles(s, arm, sig)

@@ -10,9 +10,15 @@ from inkreach.signals import (ServoCalibration, quantised_angles, servo_calibrat
                               servo_pulses)
 
 
+def _bare_default():
+    """The default arm without its hardware tables (the tests add their own)."""
+    from dataclasses import replace
+    return replace(default_arm(), hardware={})
+
+
 def _line_stream(n=40, arm=None):
     """A short pen-down line on the default arm, built by hand from its IK."""
-    arm = default_arm() if arm is None else arm
+    arm = _bare_default() if arm is None else arm
     xy = np.linspace([-30.0, 150.0], [30.0, 190.0], n)
     q = arm.ik(xy)
     pen = np.ones(n, np.int8)
@@ -96,7 +102,7 @@ def test_servo_calibration_refuses_bad_tables_with_one_line(table, words):
 
 def test_servo_pulses_are_whole_microseconds_and_pen_pulses_follow_pen():
     s = _line_stream()
-    sig = servo_pulses(s, servo_calibration_from_arm(default_arm()))
+    sig = servo_pulses(s, servo_calibration_from_arm(_bare_default()))
     assert sig.pulse_us.dtype == np.int64 and sig.pulse_us.shape == (len(s), 2)
     cal = sig.calibration
     assert np.all(sig.pen_us[s.pen == 1] == cal.pen_down_us)
@@ -107,7 +113,7 @@ def test_servo_pulses_are_whole_microseconds_and_pen_pulses_follow_pen():
 
 def test_servo_quantised_angles_are_within_half_a_microsecond_of_the_command():
     s = _line_stream()
-    cal = servo_calibration_from_arm(default_arm())
+    cal = servo_calibration_from_arm(_bare_default())
     q = quantised_angles(s, servo_pulses(s, cal))
     # 2000 us over 180 deg: half a microsecond is 0.045 deg.
     assert np.max(np.abs(np.rad2deg(q - s.q))) <= 0.5 * 180.0 / 2000.0 + 1e-9
@@ -116,7 +122,7 @@ def test_servo_quantised_angles_are_within_half_a_microsecond_of_the_command():
 
 
 def test_servo_calibration_reads_the_arm_file_table_and_survives_a_round_trip():
-    text = arm_to_toml(default_arm()) + (
+    text = arm_to_toml(_bare_default()) + (
         "\n[servo]\nmotor1 = [[20.0, 2400.0], [120.0, 1500.0], [220.0, 600.0]]\n"
         "pen_up_us = 1000.0\npen_down_us = 1900.0\nframe_hz = 50.0\n")
     arm = parse_arm(text)
@@ -136,6 +142,6 @@ def test_servo_calibration_reads_the_arm_file_table_and_survives_a_round_trip():
     ("frame_hz = 400.0\nmotor1 = [[0.0, 500.0], [180.0, 2500.0]]", "does not fit"),
 ])
 def test_servo_calibration_from_arm_names_the_bad_key(servo, words):
-    arm = parse_arm(arm_to_toml(default_arm()) + "\n[servo]\n" + servo + "\n")
+    arm = parse_arm(arm_to_toml(_bare_default()) + "\n[servo]\n" + servo + "\n")
     with pytest.raises(InkreachError, match=words):
         servo_calibration_from_arm(arm)

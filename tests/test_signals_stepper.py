@@ -49,7 +49,16 @@ def test_stepper_counts_match_exact_rational_arithmetic(angles, spr, ms, gear, z
     got = stepper_steps(stream, cfg).steps
     want = [[_exact_steps(r[0], zero, spr, ms, gear, d),
              _exact_steps(r[1], -zero, spr, ms, gear, -d)] for r in deg_back]
-    assert got.tolist() == want
+    # an exact tie (x.5 steps) may round either way after floating point
+    spd = Fraction(spr) * ms * Fraction(gear) / 360
+    ties = [abs((Fraction(float(r[0])) - Fraction(zero)) * spd % 1 - Fraction(1, 2)) < 1e-9
+            or abs((Fraction(float(r[1])) + Fraction(zero)) * spd % 1 - Fraction(1, 2)) < 1e-9
+            for r in deg_back]
+    for g, w, tie in zip(got.tolist(), want, ties):
+        if tie:
+            assert all(abs(a - b) <= 1 for a, b in zip(g, w))
+        else:
+            assert g == w
 
 
 def test_stepper_counts_do_not_drift_over_a_long_sequence():
