@@ -1,6 +1,7 @@
 """What the previews share: the arm's posture and links, outlines, bounds, figures."""
 
 import numpy as np
+from scipy import ndimage
 from skimage import measure
 
 __all__ = []
@@ -52,7 +53,9 @@ def linkage(arm, q):
 def outlines(wmap, mask=None):
     """Boundary polylines (arm mm) of the usable region of a workspace map."""
     m = wmap.usable if mask is None else mask
-    padded = np.pad(m.astype(float), 1)
+    # a slight blur first, so the 0.5 level runs smoothly between cell
+    # centres instead of tracing the grid's staircase
+    padded = ndimage.gaussian_filter(np.pad(m.astype(float), 2), 0.8, truncate=2.5)[1:-1, 1:-1]
     out = []
     for c in measure.find_contours(padded, 0.5):
         rows, cols = c[:, 0] - 1, c[:, 1] - 1
@@ -96,28 +99,74 @@ def nice_length(span):
     return p
 
 
-def figure_lines(stats):
-    """Short lines of the plan's figures for a corner of a preview."""
+def _length(mm):
+    mm = float(mm)
+    return f"{mm / 1000:.2f} m" if abs(mm) >= 1000 else f"{mm:.0f} mm"
+
+
+def _duration(t):
+    t = float(t)
+    if t >= 3600:
+        return f"{int(t // 3600)} h {int(t % 3600 // 60):02d} min"
+    if t >= 60:
+        return f"{int(t // 60)} min {int(round(t % 60)) % 60:02d} s"
+    return f"{t:.1f} s"
+
+
+def figure_rows(stats):
+    """The plan's figures for a corner of a preview, as (label, value) text pairs.
+
+    Strokes, pen lifts, pen-down and pen-up length, drawing time, drawing
+    size, worst conditioning and, when ``stats["fidelity"]`` holds them,
+    the likeness (SSIM) and tone error; figures missing from ``stats`` are
+    left out.
+
+    Examples
+    --------
+    >>> figure_rows({"strokes": 3, "pen_down_mm": 1520.0, "estimated_s": 75.0})
+    [('strokes', '3'), ('pen down', '1.52 m'), ('drawing time', '1 min 15 s')]
+    """
     if not stats:
         return []
     s = dict(stats)
-    lines = []
 
     def num(k):
-        v = s.get(k)
-        return None if v is None else float(v)
+        try:
+            v = float(s[k])
+        except (KeyError, TypeError, ValueError):
+            return None
+        return v if np.isfinite(v) else None
 
-    if "strokes" in s:
-        lines.append(f"strokes {int(s['strokes'])}")
-    if "pen_lifts" in s:
-        lines.append(f"pen lifts {int(s['pen_lifts'])}")
-    if num("pen_down_mm") is not None:
-        lines.append(f"pen down {num('pen_down_mm') / 1000:.2f} m")
-    if num("pen_up_mm") is not None:
-        lines.append(f"pen up {num('pen_up_mm') / 1000:.2f} m")
+    rows = []
+    for key, label in (("strokes", "strokes"), ("pen_lifts", "pen lifts")):
+        if num(key) is not None:
+            rows.append((label, f"{int(num(key))}"))
+    for key, label in (("pen_down_mm", "pen down"), ("pen_up_mm", "pen up")):
+        if num(key) is not None:
+            rows.append((label, _length(num(key))))
     if num("estimated_s") is not None:
-        t = num("estimated_s")
-        lines.append(f"time {int(t // 60)} min {t % 60:04.1f} s" if t >= 60 else f"time {t:.1f} s")
-    if num("min_conditioning") is not None and np.isfinite(num("min_conditioning")):
-        lines.append(f"worst conditioning {num('min_conditioning'):.2f}")
-    return lines
+        rows.append(("drawing time", _duration(num("estimated_s"))))
+    size = s.get("drawing_mm")
+    if size is not None and len(size) == 2 and np.all(np.isfinite(np.asarray(size, float))):
+        rows.append(("drawing size", f"{float(size[0]):.0f} x {float(size[1]):.0f} mm"))
+    if num("min_conditioning") is not None:
+        rows.append(("worst conditioning", f"{num('min_conditioning'):.2f}"))
+    fid = s.get("fidelity")
+    if isinstance(fid, dict):
+        for key, label in (("ssim", "likeness (SSIM)"), ("tone_error", "tone error")):
+            v = fid.get(key)
+            if v is not None and np.isfinite(float(v)):
+                rows.append((label, f"{float(v):.2f}"))
+    return rows
+
+
+def figure_lines(stats):
+    """Short lines ``"label value"`` of the plan's figures (see :func:`figure_rows`)."""
+    return [f"{label} {value}" for label, value in figure_rows(stats)]
+
+
+def figure_title(stats):
+    """A heading for the figures: the style and the arm, when ``stats`` names them."""
+    s = dict(stats or {})
+    parts = [str(s[k]) for k in ("style", "arm") if s.get(k)]
+    return " \u00b7 ".join(parts) if parts else "plan"

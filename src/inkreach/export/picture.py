@@ -1,22 +1,36 @@
-"""preview.png and the arm report's conditioning map, drawn with Pillow."""
+"""preview.png and the arm report's conditioning map.
 
+Shapes are drawn with OpenCV's anti-aliased polylines straight onto a
+``uint8`` canvas of the final size (one call per colour), the region shading
+is coloured at the workspace map's own resolution and resized once, and only
+the text goes through Pillow.
+"""
+
+import cv2
 import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
 from ..errors import InkreachError
 from ._colour import conditioning_ramp, order_ramp
-from ._scene import (as_strokes, bounds, figure_lines, linkage, nice_length, outlines,
-                     posture, travel_moves)
-from .simulate import pen_down_paths
+from ._scene import (as_strokes, bounds, figure_rows, figure_title, linkage, nice_length,
+                     outlines, posture, travel_moves)
 
 __all__ = ["preview_png", "arm_map_png"]
 
-_SS = 2  # draw at twice the size, then downsample: smooth thin lines
-_INK = (48, 52, 58)
+_SHIFT = 4  # sub-pixel bits for cv2 drawing
+_INK = (40, 44, 52)
+_MUTED = (110, 116, 126)
+_PAPER = (255, 255, 255)
+_BELOW_FLOOR = (241, 240, 236)  # reachable, but under the conditioning floor
+_EDGE = (92, 146, 114)  # usable region's boundary
+_TRAVEL = (120, 128, 140)
+_LINK = (118, 124, 134)
+_TINT = 0.30  # how much of the conditioning colour shows in the usable region
+_ORDER_LEVELS = 64  # colour buckets for the drawing order: one cv2 call each
 
 
 class _Canvas:
-    """A supersampled Pillow canvas with an arm-mm to pixel map (+y up)."""
+    """An RGB ``uint8`` canvas of the final size with an arm-mm to pixel map (+y up)."""
 
     def __init__(self, box, size, pad=24):
         x0, x1, y0, y1 = box
@@ -26,58 +40,62 @@ class _Canvas:
         size = int(size)
         if not 64 <= size <= 8000:
             raise InkreachError(f"preview size {size} px is out of range; use 64 to 8000")
-        self.scale = (size - 2 * pad) / max(w, h)  # px per mm at the final size
+        self.scale = (size - 2 * pad) / max(w, h)  # px per mm
         self.W = int(round(w * self.scale)) + 2 * pad
         self.H = int(round(h * self.scale)) + 2 * pad
         self.x0, self.y1, self.pad = x0, y1, pad
-        self.img = Image.new("RGB", (self.W * _SS, self.H * _SS), (255, 255, 255))
-        self.draw = ImageDraw.Draw(self.img)
+        self.rgb = np.full((self.H, self.W, 3), 255, np.uint8)
 
-    def px(self, p, ss=_SS):
+    def px(self, p):
         """Pixel coordinates (float) of points in mm, shape (..., 2)."""
         p = np.asarray(p, dtype=float)
         out = np.empty_like(p)
-        out[..., 0] = (self.pad + (p[..., 0] - self.x0) * self.scale) * ss
-        out[..., 1] = (self.pad + (self.y1 - p[..., 1]) * self.scale) * ss
+        out[..., 0] = self.pad + (p[..., 0] - self.x0) * self.scale
+        out[..., 1] = self.pad + (self.y1 - p[..., 1]) * self.scale
         return out
 
-    def mm_grid(self):
-        """Arm-mm coordinates of every supersampled pixel centre, two (H, W) arrays."""
-        u = (np.arange(self.W * _SS) + 0.5) / _SS
-        v = (np.arange(self.H * _SS) + 0.5) / _SS
-        x = self.x0 + (u - self.pad) / self.scale
-        y = self.y1 - (v - self.pad) / self.scale
-        return np.meshgrid(x, y)
+    def _fixed(self, p):
+        return np.rint(self.px(p) * (1 << _SHIFT)).astype(np.int32)
 
-    def line(self, pts, fill, width):
-        p = self.px(pts)
-        if len(p) == 1:
-            r = max(width / 2, 1.0)
-            (cx, cy), = p
-            self.draw.ellipse([cx - r, cy - r, cx + r, cy + r], fill=fill)
+    def lines(self, polys, colour, width, img=None):
+        """Draw polylines (arm mm) in one call; one-point ones become dots."""
+        arrays = [np.asarray(a, float).reshape(-1, 2) for a in polys]
+        if not all(np.all(np.isfinite(a)) for a in arrays):
+            arrays = [a[np.all(np.isfinite(a), axis=1)] for a in arrays]
+        arrays = [a if len(a) != 1 else np.repeat(a, 2, axis=0)  # a dot: zero-length line
+                  for a in arrays if len(a)]
+        if not arrays:
             return
-        self.draw.line([tuple(v) for v in p.tolist()], fill=fill, width=max(1, int(width)),
-                       joint="curve")
+        lengths = np.cumsum([len(a) for a in arrays])[:-1]
+        fixed = self._fixed(np.concatenate(arrays)).reshape(-1, 1, 2)
+        cv2.polylines(self.rgb if img is None else img, np.split(fixed, lengths), False,
+                      tuple(map(int, colour)), thickness=max(1, int(round(width))),
+                      lineType=cv2.LINE_AA, shift=_SHIFT)
 
-    def dot(self, p, r, fill, outline=None):
-        (cx, cy), = self.px(np.asarray(p, float)[None])
-        self.draw.ellipse([cx - r, cy - r, cx + r, cy + r], fill=fill, outline=outline,
-                          width=_SS)
+    def disc(self, p, r, fill, outline=None, img=None):
+        """A filled circle of radius ``r`` px at ``p`` (mm), optionally outlined."""
+        img = self.rgb if img is None else img
+        c = tuple(int(v) for v in self._fixed(np.asarray(p, float)))
+        rr = int(round(r * (1 << _SHIFT)))
+        cv2.circle(img, c, rr, tuple(map(int, fill)), -1, cv2.LINE_AA, _SHIFT)
+        if outline is not None:
+            cv2.circle(img, c, rr, tuple(map(int, outline)), 1, cv2.LINE_AA, _SHIFT)
 
-    def shade(self, wmap, colour_of):
-        """Paint each pixel from the workspace map cell under it (nearest cell)."""
-        X, Y = self.mm_grid()
-        j = np.rint((X - wmap.x[0]) / wmap.step).astype(np.int64)
-        i = np.rint((Y - wmap.y[0]) / wmap.step).astype(np.int64)
-        inside = (i >= 0) & (i < len(wmap.y)) & (j >= 0) & (j < len(wmap.x))
-        ii, jj = np.clip(i, 0, len(wmap.y) - 1), np.clip(j, 0, len(wmap.x) - 1)
-        rgb = colour_of(ii, jj, inside)
-        self.img = Image.fromarray(rgb.astype(np.uint8))
-        self.draw = ImageDraw.Draw(self.img)
+    def blend(self, layer, alpha):
+        """Mix a layer drawn on a copy of the canvas back in at opacity ``alpha``."""
+        cv2.addWeighted(layer, alpha, self.rgb, 1.0 - alpha, 0.0, dst=self.rgb)
 
-    def finish(self):
-        """Downsample to the final size (LANCZOS) and return a drawing context on it."""
-        img = self.img.resize((self.W, self.H), Image.LANCZOS)
+    def shade(self, wmap, cells):
+        """Paint the workspace map's cell colours, (ny, nx, 3) uint8, resized to the canvas."""
+        s = wmap.step * self.scale
+        M = np.array([[s, 0.0, self.pad + (wmap.x[0] - self.x0) * self.scale],
+                      [0.0, -s, self.pad + (self.y1 - wmap.y[0]) * self.scale]])
+        self.rgb = cv2.warpAffine(np.ascontiguousarray(cells), M, (self.W, self.H),
+                                  flags=cv2.INTER_LINEAR, borderMode=cv2.BORDER_CONSTANT,
+                                  borderValue=_PAPER)
+
+    def image(self):
+        img = Image.fromarray(self.rgb)
         return img, ImageDraw.Draw(img)
 
 
@@ -85,25 +103,89 @@ def _font(px):
     return ImageFont.load_default(size=max(8, int(px)))
 
 
-def _panel(img, draw, lines, corner="top-left", px=14):
-    """Text lines on a soft white panel in a corner of the final image."""
-    if not lines:
+def _text_w(draw, s, font):
+    b = draw.textbbox((0, 0), s, font=font)
+    return b[2] - b[0]
+
+
+def _soft_box(img, box, radius, fill=(255, 255, 255), opacity=0.9, outline=(214, 218, 223)):
+    """A rounded, slightly see-through box on ``img`` (in place)."""
+    x0, y0, x1, y1 = (int(round(v)) for v in box)
+    x0, y0 = max(x0, 0), max(y0, 0)
+    x1, y1 = min(x1, img.width - 1), min(y1, img.height - 1)
+    if x1 <= x0 or y1 <= y0:
         return
-    font = _font(px)
-    pad = int(px * 0.6)
-    boxes = [draw.textbbox((0, 0), s, font=font) for s in lines]
-    w = max(b[2] - b[0] for b in boxes) + 2 * pad
-    lh = int(px * 1.35)
-    h = lh * len(lines) + 2 * pad
-    x = 8 if "left" in corner else img.width - w - 8
-    y = 8 if "top" in corner else img.height - h - 8
-    overlay = Image.new("RGBA", img.size, (0, 0, 0, 0))
-    ImageDraw.Draw(overlay).rounded_rectangle([x, y, x + w, y + h], radius=pad,
-                                              fill=(255, 255, 255, 215),
-                                              outline=(210, 214, 218, 255))
-    img.paste(Image.alpha_composite(img.convert("RGBA"), overlay).convert("RGB"))
-    for k, s in enumerate(lines):
-        draw.text((x + pad, y + pad + k * lh), s, fill=_INK, font=font)
+    region = img.crop((x0, y0, x1 + 1, y1 + 1))
+    mask = Image.new("L", region.size, 0)
+    ImageDraw.Draw(mask).rounded_rectangle([0, 0, region.width - 1, region.height - 1],
+                                           radius=radius, fill=int(255 * opacity))
+    region.paste(Image.new("RGB", region.size, fill), (0, 0), mask)
+    ImageDraw.Draw(region).rounded_rectangle([0, 0, region.width - 1, region.height - 1],
+                                             radius=radius, outline=outline)
+    img.paste(region, (x0, y0))
+
+
+def _overlap(a, b):
+    """Area shared by two pixel boxes (x0, y0, x1, y1)."""
+    w = min(a[2], b[2]) - max(a[0], b[0])
+    h = min(a[3], b[3]) - max(a[1], b[1])
+    return max(w, 0) * max(h, 0)
+
+
+def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
+    """Heading, label/value rows and (optionally) the drawing-order ramp, in a top corner.
+
+    The panel goes top left unless it would cover more of the ``avoid`` box
+    (the drawing, in pixels) there than top right.
+    """
+    if not rows and not order_bar:
+        return
+    font, small = _font(px), _font(px - 2)
+    pad, lh, gap = int(px * 0.7), int(px * 1.4), int(px * 1.2)
+    lw = max([_text_w(draw, k, small) for k, _ in rows] + [0])
+    vw = max([_text_w(draw, v, font) for _, v in rows] + [0])
+    w = max(lw + gap + vw, _text_w(draw, title, font), 8 * px) + 2 * pad
+    h = pad + lh + int(px * 0.35) + lh * len(rows) + (int(px * 2.6) if order_bar else 0) + pad
+    x, y = 10, 10
+    if avoid is not None:
+        right = img.width - 10 - w
+        if _overlap((right, y, right + w, y + h), avoid) < _overlap((x, y, x + w, y + h), avoid):
+            x = right
+    _soft_box(img, (x, y, x + w, y + h), radius=pad)
+    draw.text((x + pad, y + pad), title, fill=_INK, font=font)
+    yy = y + pad + lh + int(px * 0.35)
+    draw.line([(x + pad, yy - int(px * 0.3)), (x + w - pad, yy - int(px * 0.3))],
+              fill=(226, 229, 233), width=1)
+    for k, v in rows:
+        draw.text((x + pad, yy + 2), k, fill=_MUTED, font=small)
+        draw.text((x + w - pad - _text_w(draw, v, font), yy), v, fill=_INK, font=font)
+        yy += lh
+    if order_bar:
+        bw, bh = w - 2 * pad, max(5, px // 2)
+        yy += int(px * 0.4)
+        ramp = order_ramp(np.linspace(0.0, 1.0, bw))
+        img.paste(Image.fromarray(np.ascontiguousarray(np.repeat(ramp[None], bh, axis=0))),
+                  (x + pad, yy))
+        draw.text((x + pad, yy + bh + 3), "first stroke", fill=_MUTED, font=small)
+        last = "last"
+        draw.text((x + w - pad - _text_w(draw, last, small), yy + bh + 3), last, fill=_MUTED,
+                  font=small)
+
+
+def _key(img, draw, items, px):
+    """A small key bottom left: (kind, colour, text) with kind "swatch" or "line"."""
+    small = _font(px - 2)
+    lh, sw = int(px * 1.35), int(px * 1.1)
+    x, y = 16, img.height - 16 - lh * len(items)
+    for kind, colour, text in items:
+        cy = y + lh // 2
+        if kind == "swatch":
+            draw.rounded_rectangle([x, cy - sw // 2 + 1, x + sw, cy + sw // 2 - 1], radius=2,
+                                   fill=colour, outline=(196, 200, 206))
+        else:
+            draw.line([(x, cy), (x + sw, cy)], fill=colour, width=2)
+        draw.text((x + sw + 6, cy - px // 2), text, fill=_MUTED, font=small)
+        y += lh
 
 
 def _scale_bar(img, draw, scale, px=12):
@@ -117,23 +199,26 @@ def _scale_bar(img, draw, scale, px=12):
     for x in (x0, x1):
         draw.line([(x, y - 5), (x, y + 1)], fill=_INK, width=2)
     label = f"{L:g} mm"
-    font = _font(px)
+    font = _font(px - 1)
     b = draw.textbbox((0, 0), label, font=font)
     draw.text(((x0 + x1) / 2 - (b[2] - b[0]) / 2, y - 8 - (b[3] - b[1]) - 2), label,
               fill=_INK, font=font)
 
 
-def _draw_arm(cv, arm, q):
+def _draw_arm(cv, arm, q, opacity=0.6):
+    """The linkage in posture ``q``, drawn see-through so the drawing shows under it."""
     links, motors, pen = linkage(arm, q)
-    for a, b in links:
-        cv.line(np.array([a, b]), (150, 156, 164), 3 * _SS)
+    layer = cv.rgb.copy()
+    cv.lines([np.array([a, b]) for a, b in links], _LINK, 3, img=layer)
     for a, b in links:
         for p in (a, b):
-            cv.dot(p, 2.2 * _SS, (255, 255, 255), outline=(120, 126, 134))
+            cv.disc(p, 3.2, (255, 255, 255), outline=_LINK, img=layer)
+    cv.blend(layer, opacity)
     for m in motors:
-        cv.dot(m, 5 * _SS, _INK)
+        cv.disc(m, 6.5, _INK)
+        cv.disc(m, 2.0, (255, 255, 255))
     if pen is not None and np.all(np.isfinite(pen)):
-        cv.dot(pen, 3 * _SS, (255, 255, 255), outline=_INK)
+        cv.disc(pen, 4.0, (255, 255, 255), outline=_INK)
 
 
 def _scene_box(arm, wmap, strokes, q, extra=()):
@@ -143,8 +228,37 @@ def _scene_box(arm, wmap, strokes, q, extra=()):
     return bounds(groups, margin=0.04)
 
 
+def _travel_paths(stream):
+    """The pen-up runs of a stream, each joined to the pen-down rows either side."""
+    xy = np.asarray(stream.xy, float)
+    up = np.asarray(stream.pen) == 0
+    edges = np.diff(np.concatenate([[0], up.astype(np.int8), [0]]))
+    starts, ends = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    return [xy[max(a - 1, 0):b + 1] for a, b in zip(starts, ends)]
+
+
+def _region_cells(wmap, usable_tint, below_floor):
+    """Cell colours of the map: tinted by conditioning where usable, grey where only reachable."""
+    cond = np.clip(np.nan_to_num(wmap.conditioning, nan=0.0), 0.0, 1.0)
+    out = np.empty(wmap.usable.shape + (3,), np.uint8)
+    out[...] = _PAPER
+    out[wmap.in_limits] = below_floor
+    tint = conditioning_ramp(cond[wmap.usable]).astype(float)
+    out[wmap.usable] = np.rint((1 - usable_tint) * 255.0 + usable_tint * tint).astype(np.uint8)
+    return out
+
+
 def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     """The preview picture: usable region, the placed drawing by order, the arm, figures.
+
+    The arm's usable region is shaded by conditioning (bluer is better) and
+    outlined; the reachable area under the conditioning floor is light grey.
+    Strokes are drawn at the pen's width (at least a pixel) coloured by
+    drawing order, from deep indigo (first) to brick red (last); pen-up
+    moves are faint grey; the arm is drawn see-through in one posture (its
+    home, else at the first stroke). A panel in the top-left corner holds
+    the figures and the order ramp, a key sits bottom left and a scale bar
+    bottom right.
 
     Parameters
     ----------
@@ -156,7 +270,9 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
         When given, the pen-up moves are drawn from its pen-up rows (the
         path the pen really takes); otherwise as straight lines.
     stats : dict, optional
-        Figures for the top-left corner.
+        Figures for the top-left corner (see ``Plan.stats``; a
+        ``"fidelity"`` table with ``"ssim"`` and ``"tone_error"`` is shown
+        when present).
     size : int
         Longer side, pixels.
 
@@ -164,6 +280,11 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     -------
     PIL.Image.Image
         RGB.
+
+    References
+    ----------
+    .. [1] OpenCV documentation, "Drawing Functions": ``cv2.polylines`` with
+       ``LINE_AA`` and sub-pixel ``shift``.
 
     Examples
     --------
@@ -178,40 +299,35 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     strokes = as_strokes(strokes)
     q = posture(arm, strokes)
     cv = _Canvas(_scene_box(arm, wmap, strokes, q), size)
-    cond = np.nan_to_num(wmap.conditioning, nan=0.0)
-    ramp = conditioning_ramp(np.clip(cond, 0, 1)).astype(float)
-
-    def colour(ii, jj, inside):
-        white = np.full(ii.shape + (3,), 255.0)
-        usable = inside & wmap.usable[ii, jj]
-        near = inside & wmap.in_limits[ii, jj] & ~usable
-        out = white.copy()
-        out[near] = 246.0
-        a = 0.28
-        out[usable] = (1 - a) * 255.0 + a * ramp[ii[usable], jj[usable]]
-        return out
-
-    cv.shade(wmap, colour)
-    for c in outlines(wmap):
-        cv.line(c, (120, 170, 135), 2 * _SS // 2 + 1)
-    if stream is not None:
-        moves = pen_down_paths(np.asarray(stream.xy, float), np.asarray(stream.pen) == 0)
-    else:
-        moves = list(travel_moves(strokes))
-    for m in moves:
-        m = np.asarray(m, float)
-        m = m[np.all(np.isfinite(m), 1)]
-        if len(m) > 1:
-            cv.line(m, (196, 200, 206), _SS)
+    cv.shade(wmap, _region_cells(wmap, _TINT, _BELOW_FLOOR))
+    cv.lines(outlines(wmap), _EDGE, 1)
+    moves = _travel_paths(stream) if stream is not None else list(travel_moves(strokes))
+    if len(moves):
+        layer = cv.rgb.copy()
+        cv.lines(moves, _TRAVEL, 1, img=layer)
+        cv.blend(layer, 0.45)
     n = len(strokes)
-    colours = order_ramp(np.arange(n) / max(n - 1, 1))
-    w = max(2, int(round(arm.pen.width_mm * cv.scale * _SS)))
-    for s, c in zip(strokes, colours):
-        cv.line(s, tuple(int(v) for v in c), w)
+    if n:
+        level = np.minimum((np.arange(n) / max(n - 1, 1) * _ORDER_LEVELS).astype(int),
+                           _ORDER_LEVELS - 1)
+        colours = order_ramp(np.arange(_ORDER_LEVELS) / (_ORDER_LEVELS - 1))
+        width = arm.pen.width_mm * cv.scale
+        cut = np.flatnonzero(np.diff(level)) + 1
+        for lo, hi in zip(np.r_[0, cut], np.r_[cut, n]):
+            cv.lines(strokes[lo:hi], colours[level[lo]], width)
     _draw_arm(cv, arm, q)
-    img, draw = cv.finish()
-    px = max(11, img.width // 60)
-    _panel(img, draw, figure_lines(stats), "top-left", px)
+    img, draw = cv.image()
+    px = max(11, min(img.width, img.height) // 50)
+    avoid = None
+    if n:
+        pts = cv.px(np.concatenate(strokes))
+        avoid = (*pts.min(axis=0), *pts.max(axis=0))
+    _figures_panel(img, draw, figure_title(stats), figure_rows(stats), px, order_bar=n > 1,
+                   avoid=avoid)
+    tint = tuple(int(v) for v in np.rint(0.55 * 255 + 0.45 * conditioning_ramp(0.85)))
+    _key(img, draw, [("swatch", tint, "usable region, bluer = better conditioned"),
+                     ("swatch", _BELOW_FLOOR, "reachable, under the conditioning floor"),
+                     ("line", (180, 186, 194), "pen-up moves")], px)
     _scale_bar(img, draw, cv.scale, px)
     return img
 
@@ -251,39 +367,29 @@ def arm_map_png(arm, wmap, rectangles=(), size=800):
     lim_outline = outlines(wmap, wmap.in_limits)
     box = _scene_box(arm, wmap, [], q, extra=lim_outline + [r.corners() for _, r in rects])
     cv = _Canvas(box, size)
-    cond = np.nan_to_num(wmap.conditioning, nan=0.0)
-    ramp = conditioning_ramp(np.clip(cond, 0, 1)).astype(float)
-
-    def colour(ii, jj, inside):
-        out = np.full(ii.shape + (3,), 255.0)
-        reach = inside & wmap.in_limits[ii, jj]
-        usable = inside & wmap.usable[ii, jj]
-        c = ramp[ii, jj]
-        out[reach] = 0.45 * 255.0 + 0.55 * c[reach]  # below the floor: washed out
-        out[usable] = c[usable]
-        return out
-
-    cv.shade(wmap, colour)
-    for c in lim_outline:
-        cv.line(c, (180, 184, 190), _SS)
-    for c in outlines(wmap):
-        cv.line(c, _INK, 2 * _SS)
+    cond = np.clip(np.nan_to_num(wmap.conditioning, nan=0.0), 0, 1)
+    ramp = conditioning_ramp(cond).astype(float)
+    cells = np.full(wmap.usable.shape + (3,), 255.0)
+    cells[wmap.in_limits] = 0.45 * 255.0 + 0.55 * ramp[wmap.in_limits]  # below the floor
+    cells[wmap.usable] = ramp[wmap.usable]
+    cv.shade(wmap, np.rint(cells).astype(np.uint8))
+    cv.lines(lim_outline, (180, 184, 190), 1)
+    cv.lines(outlines(wmap), _INK, 2)
     for _, r in rects:
         corners = r.corners()
-        cv.line(np.vstack([corners, corners[:1]]), (200, 60, 50), 2 * _SS)
-    _draw_arm(cv, arm, q)
-    img, draw = cv.finish()
+        cv.lines([np.vstack([corners, corners[:1]])], (200, 60, 50), 2)
+    _draw_arm(cv, arm, q, opacity=0.85)
+    img, draw = cv.image()
     px = max(11, img.width // 55)
     font = _font(px)
     for label, r in rects:
         text = f"{label}: " if label else ""
         text += f"{r.width:.0f} x {r.height:.0f} mm"
-        x, y = cv.px(np.array([r.x0, r.y0 + r.height]), ss=1)
+        x, y = cv.px(np.array([r.x0, r.y0 + r.height]))
         draw.text((x + 4, y + 3), text, fill=(160, 40, 35), font=font)
-    lines = [f"{arm.name} ({arm.kind})",
-             f"usable area {wmap.usable_area / 100:.0f} cm2",
-             f"conditioning floor {arm.limits.min_conditioning:.2f}"]
-    _panel(img, draw, lines, "top-left", px)
+    rows = [("usable area", f"{wmap.usable_area / 100:.0f} cm2"),
+            ("conditioning floor", f"{arm.limits.min_conditioning:.2f}")]
+    _figures_panel(img, draw, f"{arm.name} ({arm.kind})", rows, px)
     _colour_bar(img, draw, arm.limits.min_conditioning, px)
     _scale_bar(img, draw, cv.scale, px)
     return img
@@ -294,7 +400,7 @@ def _colour_bar(img, draw, floor, px):
     w, h = max(120, img.width // 4), max(8, px - 2)
     x0, y0 = 16, img.height - 16 - h - px - 4
     ramp = conditioning_ramp(np.linspace(0, 1, w))
-    bar = Image.fromarray(np.repeat(ramp[None], h, axis=0))
+    bar = Image.fromarray(np.ascontiguousarray(np.repeat(ramp[None], h, axis=0)))
     img.paste(bar, (x0, y0))
     draw.rectangle([x0, y0, x0 + w - 1, y0 + h - 1], outline=(150, 154, 160))
     xf = x0 + floor * (w - 1)

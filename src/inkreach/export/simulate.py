@@ -6,9 +6,12 @@ from PIL import Image
 
 from ..errors import InkreachError
 
-__all__ = ["simulated_png", "pen_down_paths"]
+__all__ = ["simulated_png", "pen_down_paths", "auto_px_per_mm"]
 
 _MAX_SIDE_PX = 12000
+_AUTO_SIDE_PX = 2000  # longest side of an automatically sized picture ...
+_AUTO_PEN_PX = 3.0  # ... which draws the pen this wide when it fits ...
+_MIN_PEN_PX = 1.5  # ... and never narrower than this
 _SHIFT = 4  # sub-pixel bits for cv2 drawing
 
 
@@ -42,7 +45,44 @@ def pen_down_paths(xy, pen):
     return [xy[a:b] for a, b in zip(starts, ends)]
 
 
-def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=8, bounds=None):
+def auto_px_per_mm(span_mm, pen_width_mm):
+    """A resolution for the simulated drawing, from its longer side and the pen width.
+
+    The pen is drawn 3 px wide; where that would make the picture longer
+    than 2000 px the resolution drops to fit, but never so far that the pen
+    is under 1.5 px (nor the picture over 12000 px) -- below that an
+    anti-aliased line no longer shows its width.
+
+    Parameters
+    ----------
+    span_mm : float
+        Longer side of the area to draw, mm.
+    pen_width_mm : float
+        Width of the inked line, mm.
+
+    Returns
+    -------
+    float
+        Pixels per mm.
+
+    Examples
+    --------
+    >>> auto_px_per_mm(100.0, 0.5)   # pen 3 px, picture 600 px
+    6.0
+    >>> auto_px_per_mm(400.0, 0.5)   # capped at 2000 px: pen 2.5 px
+    5.0
+    >>> auto_px_per_mm(400.0, 0.1)   # the pen stays 1.5 px: 6000 px
+    15.0
+    """
+    span, w = float(span_mm), float(pen_width_mm)
+    if not (np.isfinite(span) and span > 0 and np.isfinite(w) and w > 0):
+        raise InkreachError("the simulated picture needs a positive size and pen width")
+    ppm = min(_AUTO_PEN_PX / w, _AUTO_SIDE_PX / span)
+    ppm = max(ppm, _MIN_PEN_PX / w)
+    return min(ppm, (_MAX_SIDE_PX - 1) / span)
+
+
+def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=None, bounds=None):
     """Render the pen-down path at the pen's width, as the paper will show it.
 
     Call either ``simulated_png(paths, pen_width_mm)`` with a list of
@@ -59,8 +99,11 @@ def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=8, bounds=Non
         a list of polylines.
     pen_width_mm : float
         Width of the inked line, mm.
-    px_per_mm : float
-        Resolution.
+    px_per_mm : float, optional
+        Resolution. By default it is chosen from the drawing's size and the
+        pen's width: the pen is 3 px wide, or less where that would make the
+        longer side exceed 2000 px, but never under 1.5 px (see
+        :func:`auto_px_per_mm`).
     bounds : tuple, optional
         ``(xmin, xmax, ymin, ymax)`` in mm; by default the paths' box plus a
         margin.
@@ -81,6 +124,8 @@ def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=8, bounds=Non
     >>> img = simulated_png([np.array([[0.0, 0.0], [10.0, 0.0]])], 1.0, px_per_mm=4)
     >>> img.mode, img.size
     ('L', (64, 24))
+    >>> simulated_png([np.array([[0.0, 0.0], [10.0, 0.0]])], 1.0).size  # 3 px/mm
+    (48, 18)
     """
     if pen_width_mm is None:
         if pen is None or np.ndim(pen) != 0:
@@ -102,6 +147,8 @@ def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=8, bounds=Non
         m = 2.0 + w_mm
         bounds = (lo[0] - m, hi[0] + m, lo[1] - m, hi[1] + m)
     x0, x1, y0, y1 = (float(b) for b in bounds)
+    if px_per_mm is None:
+        px_per_mm = auto_px_per_mm(max(x1 - x0, y1 - y0), w_mm)
     W = int(np.ceil((x1 - x0) * px_per_mm))
     H = int(np.ceil((y1 - y0) * px_per_mm))
     if W < 1 or H < 1:

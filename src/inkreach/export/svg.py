@@ -5,7 +5,8 @@ from xml.sax.saxutils import escape
 import numpy as np
 
 from ._colour import hex_colour, order_ramp
-from ._scene import as_strokes, bounds, figure_lines, linkage, outlines, posture, travel_moves
+from ._scene import (as_strokes, bounds, figure_lines, figure_title, linkage, outlines,
+                     posture, travel_moves)
 from .safety import SAFETY_TEXT
 
 __all__ = ["preview_svg"]
@@ -88,9 +89,14 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
         'fill="#ffffff"/>',
         '<g transform="scale(1,-1)" fill="none" stroke-linecap="round" stroke-linejoin="round">',
     ]
+    if lines:
+        d = " ".join(f"M{_pts(c)}Z".replace(" ", " L", 1) for c in lines if len(c) > 2)
+        if d:
+            out.append(f'<path class="usable-area" d="{d}" fill="#eaf3ee" fill-rule="evenodd" '
+                       'stroke="none"/>')
     for c in lines:
-        out.append(f'<polyline class="usable" points="{_pts(c)}" stroke="#5a9a6e" '
-                   f'stroke-width="{_fmt(size / 400)}"/>')
+        out.append(f'<polyline class="usable" points="{_pts(c)}" stroke="#5c9272" '
+                   f'stroke-width="{_fmt(size / 500)}"/>')
     if placement_hull is not None and len(placement_hull):
         h = np.asarray(placement_hull, float)
         out.append(f'<polygon class="placement" points="{_pts(h)}" stroke="#9aa0a6" '
@@ -128,10 +134,59 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
                    f'r="{_fmt(size / 150)}" fill="none" stroke="#3c4048" '
                    f'stroke-width="{_fmt(size / 600)}"/>')
     out.append("</g>")
-    fs = size / 40
-    for i, line in enumerate(figure_lines(stats)):
-        out.append(f'<text x="{_fmt(x0 + fs)}" y="{_fmt(-y1 + fs * (1.6 + 1.3 * i))}" '
-                   f'font-family="sans-serif" font-size="{_fmt(fs)}" fill="#30343a">'
-                   f"{escape(line)}</text>")
+    avoid = None
+    if n:
+        allp = np.concatenate(strokes)
+        avoid = (allp[:, 0].min(), -allp[:, 1].max(), allp[:, 0].max(), -allp[:, 1].min())
+    out += _panel(figure_title(stats), figure_lines(stats), (x0, -y1, x1), size,
+                  order_bar=n > 1, avoid=avoid)
     out.append("</svg>")
     return "\n".join(out) + "\n"
+
+
+def _overlap(a, b):
+    w = min(a[2], b[2]) - max(a[0], b[0])
+    h = min(a[3], b[3]) - max(a[1], b[1])
+    return max(w, 0.0) * max(h, 0.0)
+
+
+def _panel(title, lines, page, size, order_bar=False, avoid=None):
+    """SVG elements of the figures panel in a top corner (page coordinates).
+
+    ``page`` is (left, top, right); the panel goes top left unless it would
+    cover more of the ``avoid`` box (x0, y0, x1, y1) there than top right.
+    """
+    left, top, right = page
+    if not lines:
+        return []
+    fs = size / 45
+    pad, lh = fs * 0.8, fs * 1.4
+    width = max(len(s) for s in [title] + lines) * fs * 0.5 + 2 * pad
+    height = pad + fs * 0.3 + lh * len(lines) + (fs * 2.6 if order_bar else 0) + pad
+    x, y = left + fs * 0.6, top + fs * 0.6
+    if avoid is not None:
+        xr = right - fs * 0.6 - width
+        if _overlap((xr, y, xr + width, y + height), avoid) < _overlap(
+                (x, y, x + width, y + height), avoid):
+            x = xr
+    out = [f'<g class="figures" font-family="sans-serif" font-size="{_fmt(fs)}">',
+           f'<rect x="{_fmt(x)}" y="{_fmt(y)}" width="{_fmt(width)}" height="{_fmt(height)}" '
+           f'rx="{_fmt(pad)}" fill="#ffffff" fill-opacity="0.9" stroke="#d6dadf" '
+           f'stroke-width="{_fmt(size / 1500)}"/>',
+           f'<text x="{_fmt(x + pad)}" y="{_fmt(y + pad + fs)}" fill="#282c34" '
+           f'font-weight="bold">{escape(title)}</text>']
+    for i, line in enumerate(lines):
+        out.append(f'<text x="{_fmt(x + pad)}" y="{_fmt(y + pad + fs + lh * (i + 1))}" '
+                   f'fill="#3a3f47">{escape(line)}</text>')
+    if order_bar:
+        stops = "".join(f'<stop offset="{t:g}" stop-color="{hex_colour(c)}"/>'
+                        for t, c in zip(np.linspace(0, 1, 5), order_ramp(np.linspace(0, 1, 5))))
+        by = y + pad + fs + lh * len(lines) + fs * 0.7
+        out += [f'<linearGradient id="order">{stops}</linearGradient>',
+                f'<rect class="order" x="{_fmt(x + pad)}" y="{_fmt(by)}" '
+                f'width="{_fmt(width - 2 * pad)}" height="{_fmt(fs * 0.45)}" fill="url(#order)"/>',
+                f'<text x="{_fmt(x + pad)}" y="{_fmt(by + fs * 1.4)}" fill="#6e747e" '
+                f'font-size="{_fmt(fs * 0.8)}">first stroke</text>',
+                f'<text x="{_fmt(x + width - pad)}" y="{_fmt(by + fs * 1.4)}" fill="#6e747e" '
+                f'font-size="{_fmt(fs * 0.8)}" text-anchor="end">last</text>']
+    return out + ["</g>"]
