@@ -150,3 +150,60 @@ def test_oklab_white_is_lightness_one_and_conversion_round_trips():
                                atol=1e-6)
     rgb = np.random.default_rng(1).integers(0, 256, (50, 3)).astype(float)
     np.testing.assert_allclose(oklab_to_srgb(srgb_to_oklab(rgb)), rgb, atol=1e-6)
+
+
+def test_auto_resolution_draws_the_pen_three_pixels_wide_within_2000_px():
+    # Rule of thumb (common practice): an anti-aliased line needs about 1.5 px
+    # or more to show its width; 3 px reads clearly.
+    from inkreach.export import auto_px_per_mm
+    assert auto_px_per_mm(170.0, 0.5) * 0.5 == pytest.approx(3.0)
+    assert auto_px_per_mm(400.0, 0.5) * 400.0 == pytest.approx(2000.0)
+    assert auto_px_per_mm(400.0, 0.1) * 0.1 == pytest.approx(1.5)
+    img = simulated_png([np.array([[0.0, 0.0], [300.0, 200.0]])], 0.4)
+    assert max(img.size) <= 2000
+    a = np.asarray(img)
+    assert np.count_nonzero(a[:, img.size[0] // 2] < 128) >= 1
+
+
+def test_figure_rows_name_size_time_conditioning_and_fidelity():
+    from inkreach.export._scene import figure_rows
+    rows = dict(figure_rows({**STATS, "drawing_mm": [171.06, 128.4], "estimated_s": 783.0,
+                             "fidelity": {"ssim": 0.612, "tone_error": 0.081}}))
+    assert rows["strokes"] == "4" and rows["pen lifts"] == "3"
+    assert rows["pen down"] == "283 mm" and rows["pen up"] == "95 mm"
+    assert rows["drawing time"] == "13 min 03 s"
+    assert rows["drawing size"] == "171 x 128 mm"
+    assert rows["worst conditioning"] == "0.45"
+    assert rows["likeness (SSIM)"] == "0.61" and rows["tone error"] == "0.08"
+    assert "likeness (SSIM)" not in dict(figure_rows(STATS))
+
+
+def test_preview_png_shades_the_usable_region_and_draws_pen_up_moves_faint(arm, wmap):
+    dots = [np.array([[-40.0, 175.0]]), np.array([[40.0, 175.0]])]
+    img = preview_png(dots, arm=arm, wmap=wmap, size=500)
+    a = np.asarray(img).astype(int)
+    assert (a.reshape(-1, 3) != 255).any(axis=1).mean() > 0.2  # the region is shaded
+    from inkreach.export.picture import _Canvas
+    cv = _Canvas(_scene_box_for_test(arm, wmap, dots), 500)
+    u, v = np.rint(cv.px(np.array([-20.0, 175.0]))).astype(int)
+    column = a[v - 3:v + 4, u].sum(axis=1)  # across the pen-up move's line
+    background = a[v - 12, u].sum()
+    assert column.min() < background - 20  # the move shows ...
+    assert column.min() > 3 * 150  # ... but faint, far lighter than ink
+
+
+def _scene_box_for_test(arm, wmap, strokes):
+    from inkreach.export._scene import posture
+    from inkreach.export.picture import _scene_box
+    return _scene_box(arm, wmap, strokes, posture(arm, strokes))
+
+
+def test_preview_png_of_a_large_size_stays_within_a_few_canvases_of_memory(arm, wmap):
+    # A 3000 px preview: the drawing works on uint8 canvases of the final size.
+    import tracemalloc
+    tracemalloc.start()
+    img = preview_png(_strokes(), arm=arm, wmap=wmap, stats=STATS, size=3000)
+    peak = tracemalloc.get_traced_memory()[1]
+    tracemalloc.stop()
+    canvas = img.size[0] * img.size[1] * 3
+    assert peak < 6 * canvas

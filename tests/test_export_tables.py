@@ -155,3 +155,68 @@ def test_firmware_header_refuses_a_bad_name_and_an_empty_stream():
                         xy=np.zeros((0, 2)), period=0.01)
     with pytest.raises(InkreachError, match="empty"):
         firmware_header(empty)
+
+
+# --- vectorised formatting gives the same text as Python's % formatting ---
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+from hypothesis.extra import numpy as hnp  # noqa: E402
+
+from inkreach.export._text import number_matrix, scaled  # noqa: E402
+from inkreach.export.firmware import _bytes, _rows  # noqa: E402
+from inkreach.export.planfile import _strokes_text  # noqa: E402
+from inkreach.export.tables import _table, _table_slow  # noqa: E402
+
+_FLOATS = hnp.arrays(float, st.integers(1, 40),
+                     elements=st.floats(-1e6, 1e6, allow_nan=False, width=64)
+                     | st.sampled_from([0.0, -0.0, 5e-5, -5e-5, 2.5e-7, -1e-9, 0.5, 1.00005]))
+
+
+@settings(max_examples=60, deadline=None)
+@given(_FLOATS, st.sampled_from(["%.3f", "%.4f", "%.6f"]))
+def test_table_rows_match_python_percent_formatting_of_rounded_values(v, fmt):
+    # Reference: Python's printf-style "%.Nf" (correctly rounded decimal text)
+    # applied to numpy.round(v, N), the formatting used before vectorising.
+    ints = np.rint(v).astype(np.int64)
+    cols = [v, ints, v[::-1].copy()]
+    formats = [fmt, "%d", fmt]
+    assert _table("h", cols, formats) == "h\n" + _table_slow(cols, formats)
+
+
+@settings(max_examples=60, deadline=None)
+@given(_FLOATS)
+def test_shortest_number_text_matches_repr_of_values_rounded_to_four_places(v):
+    # Reference: Python's float repr (the shortest text that reads back the
+    # same double), which json.dumps writes.
+    r = np.round(v, 4) + 0.0
+    m = number_matrix(scaled(r, 4), 4, strip=True)
+    assert [bytes(row[row != 0]).decode() for row in m] == [repr(float(x)) for x in r]
+
+
+def _percent_rows(v, per_line=8):
+    # The format of the C initialisers written with Python's % operator.
+    items = ["{%d, %d}" % (a, b) for a, b in v.tolist()]
+    return ",\n".join("  " + ", ".join(items[i:i + per_line])
+                      for i in range(0, len(items), per_line))
+
+
+@settings(max_examples=40, deadline=None)
+@given(hnp.arrays(np.int64, st.tuples(st.integers(1, 30), st.just(2)),
+                  elements=st.integers(-2**31 + 1, 2**31 - 1)))
+def test_c_initialiser_rows_match_python_formatting(v):
+    # Reference: Python's "%d" formatting; gcc reads the result in the tests above.
+    assert _rows(v) == _percent_rows(v)
+    b = (np.abs(v[:, 0]) % 256)
+    lines = [", ".join("0x%02x" % x for x in b[i:i + 16]) for i in range(0, len(b), 16)]
+    assert _bytes(b) == ",\n".join("  " + s for s in lines)
+
+
+def test_plan_json_strokes_text_matches_json_dumps_of_the_rounded_points():
+    # Reference: Python's json module writes each rounded stroke.
+    rng = np.random.default_rng(7)
+    strokes = [rng.normal(0, 80, (int(k), 2)) for k in rng.integers(1, 12, 40)]
+    want = "[\n    " + ",\n    ".join(
+        json.dumps((np.round(s, 4) + 0.0).tolist(), separators=(", ", ": ")) for s in strokes
+    ) + "\n  ]"
+    assert _strokes_text(strokes) == want
+    assert _strokes_text([]) == "[]"
