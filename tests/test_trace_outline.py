@@ -39,7 +39,7 @@ def test_outline_strokes_lie_on_canny_edges(name):
     d, _ = tree.query(np.concatenate(outline(lum, simplify=0)))
     # Smoothed: sub-pixel off the pixel chain, except corners moved out to
     # where their straight arms meet (at most 2 * round(2 * sigma) = 8 px).
-    assert np.median(d) <= 0.5 and np.quantile(d, 0.99) <= 1.2 and d.max() <= 8.0
+    assert np.median(d) <= 0.5 and np.quantile(d, 0.99) <= 1.5 and d.max() <= 8.0
 
 
 def test_outline_defaults_give_few_long_strokes_on_a_photo():
@@ -57,3 +57,25 @@ def test_outline_of_a_square_is_one_closed_stroke():
     (s,) = outline(lum)
     np.testing.assert_allclose(s[0], s[-1])
     assert np.ptp(s[:, 0]) == pytest.approx(40, abs=3)
+
+
+def test_noise_estimate_matches_the_added_noise():
+    # Donoho & Johnstone 1994 MAD estimate; the truth is the known sigma of
+    # Gaussian noise added to a smooth ramp.
+    from inkreach.trace.outline import noise_sigma
+    ramp = np.linspace(40, 200, 300)[None, :] * np.ones((200, 1))
+    rng = np.random.default_rng(0)
+    assert noise_sigma(ramp) < 0.5
+    for s in (2.0, 4.0, 8.0):
+        assert noise_sigma(ramp + rng.normal(0, s, ramp.shape)) == pytest.approx(s, rel=0.1)
+
+
+def test_outline_ignores_grain_on_a_flat_shaded_picture():
+    # A smooth vertical shading with sensor-like noise and one dark square:
+    # only the square's outline should be drawn, not crumbs of grain.
+    rng = np.random.default_rng(2)
+    yy = np.linspace(0.35, 0.75, 300)[:, None] * np.ones((1, 400))
+    img = yy + rng.normal(0, 0.02, yy.shape)
+    img[100:200, 150:250] = 0.05
+    strokes = outline(np.clip(img, 0, 1).astype(np.float32))
+    assert len(strokes) <= 2

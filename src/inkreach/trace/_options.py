@@ -63,6 +63,8 @@ class _Choice:
 _PEN = (2.0, "pen width in working pixels", _Number(0.0, 100.0, lo_open=True))
 _MIN_LEN = (None, "drop strokes shorter than this many pixels (None: about 1% of the picture)",
             _Number(0.0, none_ok=True))
+_MIN_LEN_OUTLINE = (None, "drop strokes shorter than this many pixels (None: 2.5% of the "
+                          "picture's long side, at least 8 pen widths)", _Number(0.0, none_ok=True))
 _SIMPLIFY = "straighten wiggles smaller than this many pixels (0: keep every pixel)"
 _SMOOTH = (2.0, "smooth each stroke along its length over this many pixels, keeping corners "
                 "(0: follow the pixels)", _Number(0.0, 20.0))
@@ -76,11 +78,12 @@ OPTIONS = {
                 _Number(0.0, none_ok=True)),
         "high": (None, "upper edge threshold on a 0-255 scale (None: chosen from the picture)",
                  _Number(0.0, none_ok=True)),
-        "blur": (None, "smoothing before finding edges, in pixels (None: from picture size)",
+        "blur": (None, "smoothing before finding edges, in pixels (None: from picture size "
+                         "and its noise)",
                  _Number(0.0, 50.0, none_ok=True)),
-        "min_length": _MIN_LEN,
+        "min_length": _MIN_LEN_OUTLINE,
         "smooth": _SMOOTH,
-        "simplify": (0.6, _SIMPLIFY, _Number(0.0, 50.0)),
+        "simplify": (1.0, _SIMPLIFY, _Number(0.0, 50.0)),
     },
     "centerline": {
         "pen_px": _PEN,
