@@ -76,14 +76,9 @@ class Plan:
 
     def files(self):
         """Every output file of this plan, name -> bytes or text."""
-        import io
-
         from . import export
 
-        def png(img):
-            buf = io.BytesIO()
-            img.save(buf, format="PNG", optimize=False)
-            return buf.getvalue()
+        png = export.png_bytes
 
         extra = {"arm": arm_to_toml(self.arm), "style": self.style,
                  "options": _jsonable(self.options), "image_size": self.image_size}

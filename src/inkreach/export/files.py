@@ -194,8 +194,12 @@ def _backup(folder, name, target):
     return bak
 
 
-def png_bytes(image):
-    """PNG bytes of a Pillow image (no timestamps, so the same picture gives the same bytes)."""
+def png_bytes(image, compress_level=1):
+    """PNG bytes of a Pillow image (no timestamps, so the same picture gives the same bytes).
+
+    ``compress_level`` 1 is the fastest zlib level: previews are mostly flat
+    colour, so it costs little in size and saves most of the encoding time.
+    """
     buf = io.BytesIO()
-    image.save(buf, format="PNG", optimize=False)
+    image.save(buf, format="PNG", optimize=False, compress_level=compress_level)
     return buf.getvalue()
