@@ -68,3 +68,18 @@ def test_hatch_lines_stay_inside_dark_regions():
     pts = np.concatenate(hatch(lum, pen_px=2.0))
     assert pts[:, 0].min() > 28 and pts[:, 0].max() < 72
     assert pts[:, 1].min() > 18 and pts[:, 1].max() < 82
+
+
+def test_hatch_of_the_demo_still_life_is_a_few_hundred_strokes():
+    # The demo picture at the default pen: fields of long zig-zags, not
+    # thousands of crumbs (target from common practice: well under 1,500).
+    from pathlib import Path
+    from inkreach.trace import load_image
+    path = Path(__file__).resolve().parents[1] / "demo_images" / "still-life.png"
+    if not path.exists():
+        pytest.skip("demo picture not built")
+    lum = load_image(path).luminance
+    strokes = hatch(lum)
+    assert len(strokes) < 1500
+    cov = render_strokes(strokes, lum.shape, 2.0)
+    assert cov.mean() == pytest.approx(1 - lum.mean(), abs=0.05)   # Murray-Davies overall

@@ -51,10 +51,22 @@ def layer_fraction(coverage, layers):
     return 1.0 - (1.0 - np.asarray(coverage, dtype=float)) ** (1.0 / np.asarray(layers))
 
 
+def _clean(lab, pen):
+    """Level map without regions much narrower than a few hatch spacings.
+
+    A median filter over about two of the densest spacings (``2.5 pen``)
+    removes specks and slivers of odd levels, whose hatching would come out
+    as crumbs (an area-and-width filter of the kind morphological opening
+    gives, but without leaving holes).
+    """
+    k = max(5, int(round(5.0 * pen)) | 1)
+    return cv2.medianBlur(np.ascontiguousarray(lab), k)
+
+
 def _plan_levels(tone, levels, layers, pen):
     """Level map and, per level, (layer count, spacing) matching its mean tone."""
     lab = np.minimum((tone * levels).astype(np.int32), levels - 1).astype(np.uint8)
-    lab = cv2.medianBlur(lab, 5)   # no specks of odd levels in noisy photos
+    lab = _clean(lab, pen)          # no specks of odd levels in photos
     count = np.bincount(lab.ravel(), minlength=levels)[:levels]
     total = np.bincount(lab.ravel(), tone.ravel(), minlength=levels)[:levels]
     mean = total / np.maximum(count, 1)
@@ -201,9 +213,11 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
         Tone levels told apart (ignored with a fixed ``spacing``).
     smooth : float, optional
         Gaussian sigma of the tone before it is split into levels; default
-        the pen width.
+        1.5 pen widths (most of the densest spacing, 2.5 pens).  Regions of a
+        level narrower than about two such spacings are then merged into
+        their neighbours by a median filter.
     min_length : float, optional
-        Pieces of line shorter than this are not drawn; default two pen
+        Pieces of line shorter than this are not drawn; default four pen
         widths.
 
     Returns
@@ -245,10 +259,12 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     lum = as_luminance(lum)
     pen = o["pen_px"]
     tone = 1.0 - lum.astype(np.float64)
-    sigma = pen if o["smooth"] is None else o["smooth"]
+    # Smooth the tone over most of one of the densest spacings, so levels
+    # form fields a few lines wide and not film-grain islands.
+    sigma = 1.5 * pen if o["smooth"] is None else o["smooth"]
     if sigma > 0:
         tone = ndimage.gaussian_filter(tone, sigma, mode="nearest")
-    min_run = 2.0 * pen if o["min_length"] is None else o["min_length"]
+    min_run = 4.0 * pen if o["min_length"] is None else o["min_length"]
     L = o["layers"]
     # fields: (angle, spacing, level value(s) to select)
     if o["spacing"] is None:
@@ -259,7 +275,7 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
         f = min(pen / s, 1.0)
         cov = 1.0 - (1.0 - f) ** np.arange(L + 1)
         level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
-        level = cv2.medianBlur(level, 5)
+        level = _clean(level, pen)
         level[tone < _MIN_TONE] = 0
         fields = [(j, s, ("ge", j + 1)) for j in range(L)]
     strokes = []
