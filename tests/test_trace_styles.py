@@ -153,3 +153,15 @@ def test_contour_rings_of_a_radial_ramp_are_circles():
         np.testing.assert_allclose(s[0], s[-1])
         r = np.hypot(s[:, 0] - 50, s[:, 1] - 50)
         assert np.ptp(r) < 2.0
+
+
+def test_contour_levels_are_even_in_cie_lightness():
+    # CIE 15:2004: L* = 116 (Y)^(1/3) - 16 above Y = 0.008856.  On a ramp of
+    # linear Y, three levels between L* = 0 and 100 sit at L* = 25, 50, 75.
+    w = 401
+    y = np.linspace(0.0, 1.0, w)
+    lum = np.repeat(y[None, :], 40, axis=0).astype(np.float32)
+    strokes = contour(lum, levels=3, smooth=0, simplify=0)
+    xs = sorted(float(np.median(s[:, 0])) for s in strokes)
+    want = [(((L + 16) / 116) ** 3) * (w - 1) for L in (25.0, 50.0, 75.0)]
+    np.testing.assert_allclose(xs, want, atol=1.0)

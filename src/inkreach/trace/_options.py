@@ -109,7 +109,8 @@ OPTIONS = {
     },
     "stipple": {
         "pen_px": _PEN,
-        "dots": (None, "number of dots (None: a few thousand, more for darker, larger pictures)",
+        "dots": (None, "number of dots (None: darkest parts get a dot every 2.5 pen widths; "
+                        "200 to 8000 dots)",
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
         "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
         "mode": ("dots", "'dots' lifts the pen at every dot, 'line' joins them in one path",

@@ -6,7 +6,14 @@ from skimage.measure import find_contours
 
 from . import _options
 from ._common import as_luminance, default_min_length, finish
-from .srgb import linear_to_srgb
+
+
+def _lightness(lum):
+    """CIE 1976 lightness L* of linear luminance, scaled to 0..1."""
+    y = np.asarray(lum, dtype=np.float64)
+    eps = (6.0 / 29.0) ** 3
+    f = np.where(y > eps, np.cbrt(y), y / (3 * (6.0 / 29.0) ** 2) + 4.0 / 29.0)
+    return (116.0 * f - 16.0) / 100.0
 
 __all__ = ["contour", "contour_levels"]
 
@@ -27,8 +34,8 @@ def contour_levels(img, levels):
 def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=0.5):
     """Draw iso-tone lines of a smoothed picture.
 
-    Tones are compared on the sRGB-encoded (perceptual) scale, so the levels
-    look evenly spaced.
+    Tones are compared on CIE lightness L* (CIE 15, 2004), not linear
+    luminance, so the levels are evenly spaced in perceived lightness.
 
     Parameters
     ----------
@@ -63,6 +70,7 @@ def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=
     .. [1] W. E. Lorensen and H. E. Cline, "Marching cubes: a high resolution
        3D surface construction algorithm", SIGGRAPH 1987 (marching squares is
        its 2-D case, as in ``skimage.measure.find_contours``).
+    .. [2] CIE 15:2004, *Colorimetry*, 3rd ed. (L* = 116 f(Y) - 16).
 
     Examples
     --------
@@ -75,7 +83,7 @@ def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=
     o = _options.check("contour", dict(pen_px=pen_px, levels=levels, smooth=smooth,
                                        min_length=min_length, simplify=simplify))
     lum = as_luminance(lum)
-    img = linear_to_srgb(lum).astype(np.float64)
+    img = _lightness(lum)
     if o["smooth"] > 0:
         img = ndimage.gaussian_filter(img, o["smooth"], mode="nearest")
     strokes = []
