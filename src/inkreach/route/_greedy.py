@@ -8,6 +8,7 @@ from ._nearest import nearest_walk
 __all__ = []
 
 _K = 8
+_ROUNDS = 12
 
 
 def greedy_path(xy, partner, start=None, k=_K):
@@ -58,21 +59,6 @@ def greedy_path(xy, partner, start=None, k=_K):
         xy = np.vstack([xy, np.asarray(start, float).reshape(1, 2)])
         partner = np.append(partner, n_real)
     n = len(xy)
-    kq = min(k + 2, n)
-    dd, idx = cKDTree(xy).query(xy, k=kq, workers=-1)
-    u = np.repeat(np.arange(n), kq)
-    v = idx.ravel()
-    d = dd.ravel()
-    ok = (v < n) & (v != u) & (v != partner[u])
-    u, v, d = u[ok], v[ok], d[ok]
-    lo, hi = np.minimum(u, v), np.maximum(u, v)
-    key = lo * n + hi
-    key, first = np.unique(key, return_index=True)
-    d = d[first]
-    o = np.argsort(d, kind="stable")
-    lo = (key[o] // n).tolist()
-    hi = (key[o] % n).tolist()
-
     single = partner == np.arange(n)
     cap = np.where(single, 2, 1).astype(np.int64)
     if start is not None:
@@ -91,23 +77,55 @@ def greedy_path(xy, partner, start=None, k=_K):
             parent[x], x = r, parent[x]
         return r
 
-    for a, b in zip(lo, hi):
-        if not cap[a] or not cap[b]:
-            continue
-        ra, rb = find(a), find(b)
-        if ra == rb:
-            continue
-        parent[ra] = rb
-        cap[a] -= 1
-        cap[b] -= 1
-        if adj_a[a] < 0:
-            adj_a[a] = b
-        else:
-            adj_b[a] = b
-        if adj_a[b] < 0:
-            adj_a[b] = a
-        else:
-            adj_b[b] = a
+    def accept(lo, hi):
+        added = 0
+        for a, b in zip(lo, hi):
+            if not cap[a] or not cap[b]:
+                continue
+            ra, rb = find(a), find(b)
+            if ra == rb:
+                continue
+            parent[ra] = rb
+            cap[a] -= 1
+            cap[b] -= 1
+            if adj_a[a] < 0:
+                adj_a[a] = b
+            else:
+                adj_b[a] = b
+            if adj_a[b] < 0:
+                adj_a[b] = a
+            else:
+                adj_b[b] = a
+            added += 1
+        return added
+
+    # Rounds of greedy matching over the nodes that still have room: the
+    # first over every node, later ones over the fragments' free ends only
+    # (so far-apart fragments still join shortest first, as in the greedy
+    # algorithm over all edges).
+    live = np.arange(n)
+    kk = k
+    for _ in range(_ROUNDS):
+        m = len(live)
+        if m < 2:
+            break
+        kq = min(kk + 2, m)
+        dd, idx = cKDTree(xy[live]).query(xy[live], k=kq, workers=-1)
+        u = np.repeat(live, kq)
+        v = live[np.minimum(idx.ravel(), m - 1)]
+        d = dd.ravel()
+        ok = (idx.ravel() < m) & (v != u) & (v != partner[u])
+        root = np.array([find(x) for x in live.tolist()], dtype=np.int64)
+        ok &= np.repeat(root, kq) != root[np.searchsorted(live, v)]
+        u, v, d = u[ok], v[ok], d[ok]
+        lo, hi = np.minimum(u, v), np.maximum(u, v)
+        key, first = np.unique(lo * n + hi, return_index=True)
+        o = np.argsort(d[first], kind="stable")
+        added = accept((key[o] // n).tolist(), (key[o] % n).tolist())
+        live = np.flatnonzero(np.asarray(cap) > 0)
+        kk = k if added else 2 * kk
+        if kk > 64:
+            break
 
     # Walk each fragment from one free end to the other.
     frags = []

@@ -33,9 +33,9 @@ __all__ = []
 _EPS = 1e-9
 
 # Work units per second of budget, measured on the development machine
-# (two cores, busy): one unit is one node activation or one array move
-# (plus one per 2048 entries moved).
-UNITS_PER_SECOND = 150_000.0
+# (two cores, busy): one unit is one node activation, one 3-opt search from
+# a node, or one array move (plus one per 2048 entries moved).
+UNITS_PER_SECOND = 110_000.0
 
 
 def joint_time(d, vmax, amax):
@@ -58,10 +58,10 @@ def joint_time(d, vmax, amax):
 def default_budget(n_items, per_item=100e-6):
     """Default search budget in seconds for ``n_items`` items.
 
-    0.1 s plus ``per_item`` per item, but at least 400 us per item up to
-    0.4 s (small sets gain most from kicks), and at most 10 s.
+    0.1 s plus ``per_item`` per item, but at least 600 us per item up to
+    0.5 s (small sets gain most from kicks), and at most 10 s.
     """
-    return float(min(max(0.1 + per_item * n_items, min(0.4, 400e-6 * n_items)), 10.0))
+    return float(min(max(0.1 + per_item * n_items, min(0.5, 600e-6 * n_items)), 10.0))
 
 
 class PathSearch:
@@ -84,10 +84,13 @@ class PathSearch:
         Joint speed and acceleration limits for ``kind="joint"``.
     k : int
         Candidate list length.
+    quad_pool : int
+        With more than 1, the lists mix the nearest nodes with the nearest
+        in each quadrant, drawn from the ``quad_pool * k`` nearest.
     """
 
     def __init__(self, xy, partner, order, start=None, kind="euclidean",
-                 vmax=1.0, amax=1.0, k=8):
+                 vmax=1.0, amax=1.0, k=8, quad_pool=1):
         xy = np.asarray(xy, dtype=float)
         n = len(xy)
         self.n = n
@@ -110,6 +113,7 @@ class PathSearch:
         self.pn = np.frombuffer(self.pos, dtype=np.int64)
         self.pn[self.tn] = np.arange(self.M)
         self._build_dist()
+        self.quad_pool = quad_pool
         self.live = n + 1 if self.has_start else n  # nodes that can be activated
         self.neigh = self._neighbours(np.arange(n))
         self.cost = self._tour_cost()
@@ -162,14 +166,27 @@ class PathSearch:
         xy = np.column_stack([self.xs, self.ys])
         p = 2 if self.kind == "euclidean" else np.inf
         tree = cKDTree(xy)
-        kq = min(self.k + 2, n)
+        k = self.k
+        kq = min(self.quad_pool * k + 2, n)
         _, idx = tree.query(xy[nodes], k=kq, p=p, workers=-1)
         idx = np.asarray(idx).reshape(len(nodes), kq)
         partner = np.asarray(self.partner[:n])
         nodes = np.asarray(nodes)
         bad = (idx == nodes[:, None]) | (idx == partner[nodes][:, None]) | (idx >= n)
-        # Push the excluded entries to the end of each row, keep k columns.
-        cols = np.argsort(bad, axis=1, kind="stable")[:, :self.k]
+        # Half the list is the nearest nodes, the rest the nearest few in
+        # each quadrant around the node (for clustered sets), then the next
+        # nearest; kept in order of distance.
+        good = ~bad
+        rank = np.cumsum(good, axis=1) - 1
+        sel = good & (rank < k // 2)
+        if kq > k + 2:
+            rel = xy[np.minimum(idx, n - 1)] - xy[nodes][:, None, :]
+            quad = (rel[..., 0] > 0) + 2 * (rel[..., 1] > 0)
+            onehot = (quad[..., None] == np.arange(4)) & good[..., None]
+            qrank = np.take_along_axis(np.cumsum(onehot, axis=1), quad[..., None], 2)[..., 0] - 1
+            sel |= good & (qrank < max(1, k // 8))
+        key = np.where(bad, 2, np.where(sel, 0, 1)) * kq + np.arange(kq)
+        cols = np.sort(np.argsort(key, axis=1)[:, :k], axis=1)
         idx = np.take_along_axis(idx, cols, 1)
         bad = np.take_along_axis(bad, cols, 1)
         out = idx.tolist()
@@ -377,10 +394,103 @@ class PathSearch:
                                 return (a, b, e, nxt, c, f)
                 cur = nxt
                 pcur = pos[cur]
+        return self._three_opt(a, tour, pos, partner, neigh, dist, M)
+
+    def _three_opt(self, a, tour, pos, partner, neigh, dist, M, breadth=5):
+        """Sequential 3-opt move of the two-reversal kind from node ``a``.
+
+        In Lin-Kernighan terms t2 = a, t1 its tour neighbour: add (t2, t3),
+        drop (t3, t4) (a 2-opt that would close with (t4, t1)), then add
+        (t4, t5), drop (t5, t6) and close with (t6, t1). The second step is
+        evaluated on the tour as the first reversal would leave it, without
+        applying it; an improving move is applied as two reversals.
+        """
+        pa = pos[a]
+        na = neigh[a]
+        self.work += 1
+        for sdir in (1, -1):
+            t1 = tour[(pa + sdir) % M]
+            if partner[a] == t1:
+                continue
+            p1 = pos[t1]
+            d12 = dist(a, t1)
+            for t3 in na:
+                g1 = d12 - dist(a, t3)
+                if g1 <= _EPS:
+                    break
+                if t3 == t1:
+                    continue
+                p3 = pos[t3]
+                t4 = tour[(p3 + sdir) % M]
+                if t4 == a or partner[t3] == t4:
+                    continue
+                g = g1 + dist(t3, t4)
+                span = (p3 - p1) * sdir % M  # the segment t1..t3, walking sdir
+                for t5 in neigh[t4][:breadth]:
+                    g2 = g - dist(t4, t5)
+                    if g2 <= _EPS:
+                        break
+                    if t5 == t1 or t5 == t3:
+                        continue
+                    p5 = pos[t5]
+                    if (p5 - p1) * sdir % M <= span:
+                        t6 = tour[(p5 + sdir) % M]
+                    else:
+                        t6 = tour[(p5 - sdir) % M]
+                    if t6 == t4 or partner[t5] == t6:
+                        continue
+                    delta = g2 + dist(t5, t6) - dist(t6, t1)
+                    if delta > _EPS:
+                        if sdir == 1:
+                            self._reverse(p1, p3)
+                        else:
+                            self._reverse(p3, p1)
+                        p1 = pos[t1]
+                        if tour[(p1 + 1) % M] == t4:
+                            self._reverse(pos[t4], pos[t6])
+                        else:
+                            self._reverse(pos[t6], pos[t4])
+                        self.cost -= delta
+                        return (a, t1, t3, t4, t5, t6)
+            # Segment insertion (or-3opt): the run from a, walking away from
+            # t1, up to some s2 goes between c and f, a next to c and s2
+            # next to f; t1 joins q, the node after s2.
+            w = -sdir
+            for c in na:
+                g1 = d12 - dist(a, c)
+                if g1 <= _EPS:
+                    break
+                oc = (pos[c] - pa) * w % M
+                for f in (tour[(pos[c] + 1) % M], tour[(pos[c] - 1) % M]):
+                    if partner[c] == f:
+                        continue
+                    of = (pos[f] - pa) * w % M
+                    g2 = g1 + dist(c, f)
+                    lim = min(oc, of)  # the run must stop short of c and f
+                    for s2 in neigh[f][:breadth]:
+                        g3 = g2 - dist(f, s2)
+                        if g3 <= _EPS:
+                            break
+                        o2 = (pos[s2] - pa) * w % M
+                        if o2 >= lim:
+                            continue
+                        q = tour[(pos[s2] + w) % M]
+                        if partner[s2] == q or q == t1:
+                            continue
+                        delta = g3 + dist(s2, q) - dist(t1, q)
+                        if delta > _EPS:
+                            L = o2 + 1
+                            i = pa if w == 1 else pos[s2]
+                            pc = pos[c]
+                            gap = pc if tour[(pc + 1) % M] == f else (pc - 1) % M
+                            self._move_segment(i, L, gap, a, c)
+                            self.cost -= delta
+                            return (a, t1, c, f, s2, q)
         return None
 
     # -- perturbation ------------------------------------------------------
-    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50):
+    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50,
+                    local=False):
         """Iterated local search: random segment swaps kept when they pay.
 
         Each kick swaps two adjacent short segments (a double bridge whose
@@ -393,12 +503,32 @@ class PathSearch:
         partner, tour, dist = self.partner, self.tour, self.dist
         w = min(window, M - 2)
         draws = rng.integers(0, 1 << 62, size=(kicks, 3))
+        neigh, pos = self.neigh, self.pos
         for p0, r1, r2 in draws.tolist():
             if self.work > work_limit or time.perf_counter() > deadline:
                 break
-            p0 %= M
-            o1 = 1 + r1 % (w - 2)
-            o2 = o1 + 1 + r2 % (w - 1 - o1)
+            if local:
+                # Cut after a node, after one of its neighbours and after one
+                # of that one's neighbours; swap the two shorter arcs.
+                u = p0 % n
+                nu = neigh[u]
+                if not nu:
+                    continue
+                v = nu[r1 % len(nu)]
+                nv = neigh[v] if v < n else nu
+                x = nv[r2 % len(nv)]
+                q = sorted({pos[u], pos[v], pos[x]})
+                if len(q) < 3:
+                    continue
+                arcs = (q[1] - q[0], q[2] - q[1], M - q[2] + q[0])
+                k = min(range(3), key=lambda j: arcs[j] + arcs[(j + 1) % 3])
+                p0 = q[k]
+                o1 = arcs[k]
+                o2 = o1 + arcs[(k + 1) % 3]
+            else:
+                p0 %= M
+                o1 = 1 + r1 % (w - 2)
+                o2 = o1 + 1 + r2 % (w - 1 - o1)
             cuts = (p0, (p0 + o1) % M, (p0 + o2) % M)
             a0, a1, a2 = tour[cuts[0]], tour[cuts[1]], tour[cuts[2]]
             b0, b1, b2 = tour[(cuts[0] + 1) % M], tour[(cuts[1] + 1) % M], tour[(cuts[2] + 1) % M]

@@ -17,6 +17,8 @@ __all__ = ["Route", "order_strokes", "greedy_order"]
 
 # Closed loops offer at most this many entry vertices to the construction.
 _LOOP_SAMPLES = 64
+# Candidate list length of the local search.
+_NEIGHBOURS = 10
 # Most kicks tried per stroke (when the budget allows).
 _KICKS_PER_ITEM = 30
 
@@ -335,7 +337,7 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
         begins with the first stroke, and both ends of the path are free.
     time_budget : float, optional
         Seconds of improvement (default 0.1 s + 100 us per stroke, but at
-        least 400 us per stroke up to 0.4 s, and at most 10 s). It is
+        least 600 us per stroke up to 0.5 s, and at most 10 s). It is
         counted in machine-independent work units, so the result depends
         only on the input and ``seed``; a wall-clock guard at four times
         the budget stops very slow machines.
@@ -376,7 +378,7 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     seq, _, _ = items.orient(items.greedy(start), start)
     n = len(strokes)
     budget = default_budget(n, per_item=100e-6) if time_budget is None else float(time_budget)
-    search = PathSearch(items.xy, items.partner, seq, start=start)
+    search = PathSearch(items.xy, items.partner, seq, start=start, k=_NEIGHBOURS, quad_pool=3)
     work_limit = budget * UNITS_PER_SECOND
     deadline = time.perf_counter() + 4.0 * budget + 1.0
     search.run(work_limit=work_limit, deadline=deadline)
