@@ -35,7 +35,7 @@ _EPS = 1e-9
 # Work units per second of budget, measured on the development machine
 # (two cores, busy): one unit is one node activation, one 3-opt search from
 # a node, or one array move (plus one per 2048 entries moved).
-UNITS_PER_SECOND = 110_000.0
+UNITS_PER_SECOND = 140_000.0
 
 
 def joint_time(d, vmax, amax):
@@ -115,7 +115,7 @@ class PathSearch:
         self._build_dist()
         self.quad_pool = quad_pool
         self.live = n + 1 if self.has_start else n  # nodes that can be activated
-        self.neigh = self._neighbours(np.arange(n))
+        self.neigh, self.neigh_d = self._neighbours()
         self.cost = self._tour_cost()
         self.work = 0
         self._log = None
@@ -158,66 +158,73 @@ class PathSearch:
                 return base(xs[u] - sx, ys[u] - sy)
         self.dist = dist
 
-    def _neighbours(self, nodes):
-        """Candidate lists (sorted nearest first) for ``nodes``."""
+    def _neighbours(self):
+        """Candidate lists (nearest first) of all nodes, and their distances."""
         n = self.n
         if n < 2:
-            return [[] for _ in range(n + 2)]
+            return [[] for _ in range(n + 2)], [[] for _ in range(n + 2)]
         xy = np.column_stack([self.xs, self.ys])
         p = 2 if self.kind == "euclidean" else np.inf
         tree = cKDTree(xy)
         k = self.k
         kq = min(self.quad_pool * k + 2, n)
-        _, idx = tree.query(xy[nodes], k=kq, p=p, workers=-1)
-        idx = np.asarray(idx).reshape(len(nodes), kq)
+        dd, idx = tree.query(xy, k=kq, p=p, workers=-1)
+        idx = np.asarray(idx).reshape(n, kq)
+        dd = np.asarray(dd).reshape(n, kq)
         partner = np.asarray(self.partner[:n])
-        nodes = np.asarray(nodes)
-        bad = (idx == nodes[:, None]) | (idx == partner[nodes][:, None]) | (idx >= n)
+        nodes = np.arange(n)
+        bad = (idx == nodes[:, None]) | (idx == partner[:, None]) | (idx >= n)
         # Half the list is the nearest nodes, the rest the nearest few in
         # each quadrant around the node (for clustered sets), then the next
         # nearest; kept in order of distance.
         good = ~bad
-        rank = np.cumsum(good, axis=1) - 1
+        rank = np.cumsum(good, axis=1, dtype=np.int16) - 1
         sel = good & (rank < k // 2)
         if kq > k + 2:
-            rel = xy[np.minimum(idx, n - 1)] - xy[nodes][:, None, :]
+            rel = xy[np.minimum(idx, n - 1)] - xy[:, None, :]
             quad = (rel[..., 0] > 0) + 2 * (rel[..., 1] > 0)
-            onehot = (quad[..., None] == np.arange(4)) & good[..., None]
-            qrank = np.take_along_axis(np.cumsum(onehot, axis=1), quad[..., None], 2)[..., 0] - 1
-            sel |= good & (qrank < max(1, k // 8))
+            per = max(1, k // 8)
+            for qd in range(4):
+                in_q = good & (quad == qd)
+                sel |= in_q & (np.cumsum(in_q, axis=1, dtype=np.int16) <= per)
         key = np.where(bad, 2, np.where(sel, 0, 1)) * kq + np.arange(kq)
         cols = np.sort(np.argsort(key, axis=1)[:, :k], axis=1)
         idx = np.take_along_axis(idx, cols, 1)
+        dd = np.take_along_axis(dd, cols, 1)
         bad = np.take_along_axis(bad, cols, 1)
+        if self.kind != "euclidean":
+            dd = joint_time(dd, self.vmax, self.amax)
         out = idx.tolist()
+        dist_out = dd.tolist()
         if bad.any():
             for r in np.flatnonzero(bad.any(axis=1)).tolist():
                 out[r] = idx[r][~bad[r]].tolist()
+                dist_out[r] = dd[r][~bad[r]].tolist()
+        s_list, s_dist = [], []
         if self.has_start:
             # The start node is a candidate of the nodes nearest to it, so
             # moves can change where the path begins.
-            row = {int(v): r for r, v in enumerate(nodes.tolist())}
-            _, near = tree.query(self.start, k=min(self.k, n), p=p)
+            _, near = tree.query(self.start, k=min(k, n), p=p)
             for v in np.atleast_1d(near).tolist():
-                r = row.get(v)
-                if r is None:
+                if v >= n:
                     continue
-                lst = out[r]
+                lst, dl = out[v], dist_out[v]
                 ds = self.dist(v, self.S)
                 j = 0
-                while j < len(lst) and self.dist(v, lst[j]) <= ds:
+                while j < len(dl) and dl[j] <= ds:
                     j += 1
                 lst.insert(j, self.S)
-        s_list = []
-        if self.has_start:
-            s_list = [v for v in np.atleast_1d(near).tolist() if v < n]
-        return out + [s_list, []]
+                dl.insert(j, ds)
+                s_list.append(v)
+                s_dist.append(ds)
+        return out + [s_list, []], dist_out + [s_dist, []]
+
 
     def set_xy(self, nodes, xy):
         """Move ``nodes`` to new coordinates and refresh candidate lists."""
         for v, (x, y) in zip(nodes, np.asarray(xy, float).reshape(-1, 2).tolist()):
             self.xs[v], self.ys[v] = x, y
-        self.neigh = self._neighbours(np.arange(self.n))
+        self.neigh, self.neigh_d = self._neighbours()
         self.cost = self._tour_cost()
 
     def set_order(self, order):
@@ -335,14 +342,15 @@ class PathSearch:
     def _improve_node(self, a, tour, pos, partner, neigh, dist, M):
         pa = pos[a]
         na = neigh[a]
+        nda = self.neigh_d[a]
+        neigh_d = self.neigh_d
         for sdir in (1, -1):
             b = tour[(pa + sdir) % M]
             if partner[a] == b:
                 continue
             dab = dist(a, b)
             # 2-opt: remove (a, b) and (c, d), add (a, c) and (b, d).
-            for c in na:
-                dac = dist(a, c)
+            for c, dac in zip(na, nda):
                 if dac >= dab:
                     break
                 pc = pos[c]
@@ -373,8 +381,7 @@ class PathSearch:
                     break
                 g1 = dab + dist(e, nxt) - dist(b, nxt)
                 if g1 > _EPS:
-                    for c in na:
-                        dac = dist(a, c)
+                    for c, dac in zip(na, nda):
                         if dac >= g1:
                             break
                         if c in seg:
@@ -407,6 +414,8 @@ class PathSearch:
         """
         pa = pos[a]
         na = neigh[a]
+        nda = self.neigh_d[a]
+        neigh_d = self.neigh_d
         self.work += 1
         for sdir in (1, -1):
             t1 = tour[(pa + sdir) % M]
@@ -414,8 +423,8 @@ class PathSearch:
                 continue
             p1 = pos[t1]
             d12 = dist(a, t1)
-            for t3 in na:
-                g1 = d12 - dist(a, t3)
+            for t3, d23 in zip(na, nda):
+                g1 = d12 - d23
                 if g1 <= _EPS:
                     break
                 if t3 == t1:
@@ -426,8 +435,8 @@ class PathSearch:
                     continue
                 g = g1 + dist(t3, t4)
                 span = (p3 - p1) * sdir % M  # the segment t1..t3, walking sdir
-                for t5 in neigh[t4][:breadth]:
-                    g2 = g - dist(t4, t5)
+                for t5, d45 in zip(neigh[t4][:breadth], neigh_d[t4]):
+                    g2 = g - d45
                     if g2 <= _EPS:
                         break
                     if t5 == t1 or t5 == t3:
@@ -456,8 +465,8 @@ class PathSearch:
             # t1, up to some s2 goes between c and f, a next to c and s2
             # next to f; t1 joins q, the node after s2.
             w = -sdir
-            for c in na:
-                g1 = d12 - dist(a, c)
+            for c, dac in zip(na, nda):
+                g1 = d12 - dac
                 if g1 <= _EPS:
                     break
                 oc = (pos[c] - pa) * w % M
@@ -467,8 +476,8 @@ class PathSearch:
                     of = (pos[f] - pa) * w % M
                     g2 = g1 + dist(c, f)
                     lim = min(oc, of)  # the run must stop short of c and f
-                    for s2 in neigh[f][:breadth]:
-                        g3 = g2 - dist(f, s2)
+                    for s2, df2 in zip(neigh[f][:breadth], neigh_d[f]):
+                        g3 = g2 - df2
                         if g3 <= _EPS:
                             break
                         o2 = (pos[s2] - pa) * w % M
