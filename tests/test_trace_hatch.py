@@ -51,7 +51,7 @@ def test_darker_tones_get_more_crossing_directions():
     def directions(y):
         strokes = hatch(np.full((120, 120), y, np.float32))
         segs = np.concatenate([np.diff(s, axis=0) for s in strokes])
-        segs = segs[np.hypot(*segs.T) > 20]                 # hatch lines, not joins
+        segs = segs[np.hypot(*segs.T) > 40]                 # hatch lines, not joins
         ang = np.round(np.degrees(np.arctan2(-segs[:, 1], segs[:, 0])) % 180)
         return len(set(ang.tolist()))
     assert directions(0.8) == 1 < directions(0.4) <= directions(0.1)

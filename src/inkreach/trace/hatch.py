@@ -63,31 +63,62 @@ def _clean(lab, pen):
     return cv2.medianBlur(np.ascontiguousarray(lab), k)
 
 
-def _plan_levels(tone, levels, layers, pen):
-    """Level map and, per level, (layer count, spacing) matching its mean tone."""
-    lab = np.minimum((tone * levels).astype(np.int32), levels - 1).astype(np.uint8)
-    lab = _clean(lab, pen)          # no specks of odd levels in photos
-    count = np.bincount(lab.ravel(), minlength=levels)[:levels]
-    total = np.bincount(lab.ravel(), tone.ravel(), minlength=levels)[:levels]
-    mean = total / np.maximum(count, 1)
-    plan = {}
-    for b in range(levels):
-        t = mean[b]
-        if t < _MIN_TONE or count[b] == 0:
-            continue
-        k = next((k for k in range(1, layers + 1)
-                  if layer_fraction(t, k) <= _MAX_FRACTION), layers)
-        f = min(float(layer_fraction(t, k)), 1.0)
-        plan[b] = (k, pen / f)
-    return lab, plan
+def _smoothed(tone, sigma):
+    """Bilateral filter of the tone: Gaussian ``sigma`` in space, 0.1 in tone.
+
+    References
+    ----------
+    .. [1] C. Tomasi and R. Manduchi, "Bilateral filtering for gray and
+       color images", ICCV 1998.
+    """
+    t = np.ascontiguousarray(tone, dtype=np.float32)
+    d = 2 * int(math.ceil(2.0 * sigma)) + 1
+    return cv2.bilateralFilter(t, d, 0.1, float(sigma), borderType=cv2.BORDER_REPLICATE
+                               ).astype(np.float64)
+
+
+def _layer_fractions(tone, layers, pen):
+    """Ink fraction of each crossed layer at every pixel.
+
+    Every pixel gets the fewest layers whose equal fractions stay at most
+    ``_MAX_FRACTION`` (more for tones darker than ``layers`` such layers
+    give); the layer-count map is cleaned of specks, and inside each count
+    the fraction follows the tone continuously (`layer_fraction`).
+    """
+    k = np.ones(tone.shape, dtype=np.uint8)
+    for j in range(2, layers + 1):
+        k[1.0 - (1.0 - tone) ** (1.0 / (j - 1)) > _MAX_FRACTION] = j
+    k = _clean(k, pen)
+    f = np.clip(layer_fraction(np.clip(tone, 0.0, 1.0), k), 0.0, 1.0)
+    return [np.where(k > j, f, 0.0) for j in range(layers)]
+
+
+def _line_ranks(n, bits=5):
+    """Threshold of each lattice line: its index bit-reversed (van der Corput).
+
+    A line is drawn where the wanted density exceeds its rank, so lighter
+    tones keep a subset of the lines of darker ones (one shared lattice):
+    density 1/2 keeps every other line, 1/4 every fourth, and densities in
+    between keep lines at most two lattice gaps apart from their evenest
+    spacing (the low discrepancy of the van der Corput sequence [1]_).
+
+    References
+    ----------
+    .. [1] J. G. van der Corput, "Verteilungsfunktionen", Proc. Ned. Akad.
+       v. Wetensch. 38, 1935.
+    """
+    i = np.arange(n) % (1 << bits)
+    r = np.zeros(n, dtype=np.int64)
+    for b in range(bits):
+        r |= ((i >> b) & 1) << (bits - 1 - b)
+    return (r + 0.5) / (1 << bits)
 
 
 def _rotation(shape, angle_deg):
     """Frame in which hatch lines at ``angle_deg`` run along rows.
 
-    Returns ``(size, to_image)`` where ``to_image(u, v)`` maps rotated-frame
-    coordinates to image (x, y) and ``M`` is the matrix for
-    ``cv2.warpAffine(..., flags=WARP_INVERSE_MAP)``.
+    Returns ``(side, M)``: the side of a square frame holding the whole
+    picture and the 2 x 3 matrix taking frame (u, v) to image (x, y).
     """
     h, w = shape
     a = math.radians(angle_deg)
@@ -101,11 +132,6 @@ def _rotation(shape, angle_deg):
     return side, M
 
 
-def _rotated(level, M, side):
-    return cv2.warpAffine(level, M, (side, side), flags=cv2.INTER_NEAREST | cv2.WARP_INVERSE_MAP,
-                          borderMode=cv2.BORDER_CONSTANT, borderValue=_NONE)
-
-
 def _runs(mask_rows):
     """Runs of True in each row: (row, first, last) arrays, row-major order."""
     p = np.pad(mask_rows, ((0, 0), (1, 1))).astype(np.int8)
@@ -115,79 +141,117 @@ def _runs(mask_rows):
     return rs, cs, ce - 1
 
 
+def _close_runs(rs, u0, u1, gap):
+    """Merge runs of one row separated by at most ``gap`` samples."""
+    if len(rs) == 0:
+        return rs, u0, u1
+    new = np.ones(len(rs), dtype=bool)
+    new[1:] = (rs[1:] != rs[:-1]) | (u0[1:] - u1[:-1] - 1 > gap)
+    first = np.flatnonzero(new)
+    last = np.r_[first[1:], len(rs)] - 1
+    return rs[first], u0[first], u1[last]
+
+
 def _inside_many(mask, p, q):
-    """Whether each straight segment p[i] -> q[i] (rotated frame, (u, v))
-    stays inside ``mask``."""
+    """Whether each straight segment p[i] -> q[i] (image x, y) stays inside ``mask``."""
     if len(p) == 0:
         return np.zeros(0, dtype=bool)
     n = int(math.ceil(np.hypot(*(q - p).T).max())) + 2
     t = np.linspace(0.0, 1.0, n)[None, :]
-    u = np.rint(p[:, :1] + t * (q[:, :1] - p[:, :1])).astype(np.intp)
-    v = np.rint(p[:, 1:] + t * (q[:, 1:] - p[:, 1:])).astype(np.intp)
-    np.clip(u, 0, mask.shape[1] - 1, out=u)
-    np.clip(v, 0, mask.shape[0] - 1, out=v)
-    return mask[v, u].all(axis=1)
+    x = np.rint(p[:, :1] + t * (q[:, :1] - p[:, :1])).astype(np.intp)
+    y = np.rint(p[:, 1:] + t * (q[:, 1:] - p[:, 1:])).astype(np.intp)
+    np.clip(x, 0, mask.shape[1] - 1, out=x)
+    np.clip(y, 0, mask.shape[0] - 1, out=y)
+    return mask[y, x].all(axis=1)
 
 
-def _successors(rs, ends, offs, mask, gap, big):
-    """For every run, the run of the next line whose same-side end is nearest
-    to its own, or -1 when that is too far or the join leaves the mask."""
+def _successors(rs, ends, offs, to_image, region, reach, slack, big):
+    """For every run, a run on one of the next ``reach`` lattice lines whose
+    same-side end is within ``slack`` px per line stepped of its own (nearest
+    line first), or -1
+    when there is none or the joining segment leaves ``region``."""
     key = rs * big + ends
-    j = np.searchsorted(key, (rs + 1) * big + ends)
     best = np.full(len(rs), -1, dtype=np.intp)
-    dist = np.full(len(rs), np.inf)
-    for cand in (j - 1, j):
-        ok = (cand >= 0) & (cand < len(rs))
-        c = np.where(ok, cand, 0)
-        ok &= rs[c] == rs + 1
-        d = np.where(ok, np.abs(ends[c] - ends), np.inf)
-        better = d < dist
-        best[better], dist[better] = c[better], d[better]
-    cand = np.flatnonzero(dist <= gap)
-    p = np.stack([ends[cand], offs[rs[cand]]], axis=1)
-    q = np.stack([ends[best[cand]], offs[rs[best[cand]]]], axis=1)
-    inside = _inside_many(mask, p, q)
+    for step in range(1, reach + 1):
+        todo = best < 0
+        j = np.searchsorted(key, (rs + step) * big + ends)
+        dist = np.full(len(rs), np.inf)
+        pick = np.full(len(rs), -1, dtype=np.intp)
+        for cand in (j - 1, j):
+            ok = (cand >= 0) & (cand < len(rs))
+            c = np.where(ok, cand, 0)
+            ok &= rs[c] == rs + step
+            d = np.where(ok, np.abs(ends[c] - ends), np.inf)
+            better = d < dist
+            pick[better], dist[better] = c[better], d[better]
+        hit = todo & (dist <= slack * step)
+        best[hit] = pick[hit]
+    cand = np.flatnonzero(best >= 0)
+    p = to_image(ends[cand], offs[rs[cand]])
+    q = to_image(ends[best[cand]], offs[rs[best[cand]]])
+    inside = _inside_many(region, p, q)
     out = np.full(len(rs), -1, dtype=np.intp)
     out[cand[inside]] = best[cand[inside]]
     return out
 
 
-def _hatch_field(mask, spacing, pen, min_run):
-    """Lines along the rows of ``mask`` every ``spacing`` px, clipped to it and
-    joined end to end (boustrophedon) where the join stays inside."""
-    side = mask.shape[0]
-    offs = spacing * (np.arange(int(side / spacing) + 1) + 0.5)
-    offs = offs[offs <= side - 1]
-    rows = np.rint(offs).astype(int)
-    rs, u0, u1 = _runs(mask[rows])
-    # Round pen ends reach pen/2 past a line's end points: pull them in.
-    a = u0 - 0.5 + 0.5 * pen
-    b = u1 + 0.5 - 0.5 * pen
-    keep = (u1 - u0 + 1) >= max(min_run, pen)
-    rs, a, b = rs[keep], a[keep], b[keep]
-    if len(rs) == 0:
-        return []
-    mid = 0.5 * (a + b)
-    a, b = np.minimum(a, mid), np.maximum(b, mid)
-    big = 4.0 * side + 4.0
-    gap = 1.5 * spacing + pen
-    next_right = _successors(rs, b, offs, mask, gap, big)  # after running towards +u
-    next_left = _successors(rs, a, offs, mask, gap, big)   # after running towards -u
+def _chains(rs, a, b, offs, nxt_b, nxt_a):
+    """Walk runs into boustrophedon chains; returns (u, v) point arrays."""
     taken = np.zeros(len(rs), dtype=bool)
     chains = []
     for start in range(len(rs)):
         if taken[start]:
             continue
-        right = rs[start] % 2 == 0
+        # Run first towards the end that has a join, if only one has.
+        right = nxt_b[start] >= 0 or (nxt_a[start] < 0 and rs[start] % 2 == 0)
         pts, k = [], start
         while k >= 0 and not taken[k]:
             taken[k] = True
-            pts += [(a[k], offs[rs[k]]), (b[k], offs[rs[k]])] if right else \
-                   [(b[k], offs[rs[k]]), (a[k], offs[rs[k]])]
-            k = next_right[k] if right else next_left[k]
+            v = offs[rs[k]]
+            pts += [(a[k], v), (b[k], v)] if right else [(b[k], v), (a[k], v)]
+            k = nxt_b[k] if right else nxt_a[k]
             right = not right
         chains.append(np.asarray(pts, dtype=float))
     return chains
+
+
+def _hatch_layer(density, angle, spacing, pen, min_run, gap, quant):
+    """One layer: lattice lines every ``spacing`` px at ``angle`` degrees,
+    each drawn where ``density`` (0..1 of the lattice) exceeds its rank."""
+    side, M = _rotation(density.shape, angle)
+    nlines = int(side / spacing)
+    offs = spacing * (np.arange(nlines) + 0.5)
+    offs = offs[offs <= side - 1]
+    u = np.arange(side, dtype=np.float32)
+    mx = (M[0, 0] * u[None, :] + M[0, 1] * offs[:, None] + M[0, 2]).astype(np.float32)
+    my = (M[1, 0] * u[None, :] + M[1, 1] * offs[:, None] + M[1, 2]).astype(np.float32)
+    rho = cv2.remap(density, mx, my, cv2.INTER_LINEAR, borderMode=cv2.BORDER_CONSTANT,
+                    borderValue=0.0)
+    if quant:
+        rho = np.round(rho * quant) / quant
+    rank = _line_ranks(len(offs))
+    rs, u0, u1 = _runs(rho > rank[:, None])
+    rs, u0, u1 = _close_runs(rs, u0, u1, gap)
+    keep = (u1 - u0 + 1) >= max(min_run, pen)
+    rs, u0, u1 = rs[keep], u0[keep], u1[keep]
+    if len(rs) == 0:
+        return []
+    # Round pen ends reach pen/2 past a line's end points: pull them in.
+    a = u0 - 0.5 + 0.5 * pen
+    b = u1 + 0.5 - 0.5 * pen
+    mid = 0.5 * (a + b)
+    a, b = np.minimum(a, mid), np.maximum(b, mid)
+
+    def to_image(uu, vv):
+        return np.stack([uu, vv], axis=1) @ M[:, :2].T + M[:, 2]
+
+    region = density > 0
+    big = 4.0 * side + 4.0
+    reach = 3                   # joins span at most three lattice gaps
+    slack = 2.5 * spacing + pen
+    nxt_b = _successors(rs, b, offs, to_image, region, reach, slack, big)
+    nxt_a = _successors(rs, a, offs, to_image, region, reach, slack, big)
+    return [c @ M[:, :2].T + M[:, 2] for c in _chains(rs, a, b, offs, nxt_b, nxt_a)]
 
 
 def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smooth=None,
@@ -210,12 +274,12 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     layers : int, optional
         Most crossed layers.
     levels : int, optional
-        Tone levels told apart (ignored with a fixed ``spacing``).
+        Steps of line density each layer tells apart (ignored with a fixed
+        ``spacing``).
     smooth : float, optional
-        Gaussian sigma of the tone before it is split into levels; default
-        1.5 pen widths (most of the densest spacing, 2.5 pens).  Regions of a
-        level narrower than about two such spacings are then merged into
-        their neighbours by a median filter.
+        Spatial sigma of the edge-preserving (bilateral) smoothing of the
+        tone before hatching; default 1.5 pen widths (most of the densest
+        spacing, 2.5 pens).
     min_length : float, optional
         Pieces of line shorter than this are not drawn; default four pen
         widths.
@@ -236,14 +300,25 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     Black ink covering a fraction ``a`` of white paper reflects
     ``Y = 1 - a`` (Murray-Davies [1]_).  Lines of width ``w`` every ``s``
     pixels cover ``w / s``; ``k`` crossed layers cover
-    ``1 - (1 - w / s)**k``.  A level with mean wanted coverage ``a`` gets the
-    fewest layers with ``w / s <= 0.4`` and the spacing that solves that
-    relation.
+    ``1 - (1 - w / s)**k``.  Each pixel gets the fewest layers with
+    ``w / s <= 0.4`` and the line density that solves that relation.
+
+    Tone comes from line density, not from line position [2]_: every layer
+    is one field of lines on one lattice (spacing ``2.5 w``) and each
+    lattice line is drawn where the wanted density exceeds the line's rank
+    (its bit-reversed index, `_line_ranks`).  A lighter tone keeps a subset
+    of the lines of a darker one, so lines run on across tone changes
+    instead of ending in a seam, and ends of lines are spread over the
+    whole gradient.  Pieces of one line with a gap of at most one pen width
+    are drawn as one, and neighbouring lines are joined end to end where
+    the join stays inside the layer's region.
 
     References
     ----------
     .. [1] A. Murray, "Monochrome reproduction in photoengraving", J.
        Franklin Inst. 221, 1936.
+    .. [2] Y. Pnueli and A. M. Bruckstein, "DigiDurer - a digital engraving
+       system", The Visual Computer 10(5), 1994 (tone by line density).
 
     Examples
     --------
@@ -259,17 +334,22 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     lum = as_luminance(lum)
     pen = o["pen_px"]
     tone = 1.0 - lum.astype(np.float64)
-    # Smooth the tone over most of one of the densest spacings, so levels
-    # form fields a few lines wide and not film-grain islands.
+    # Smooth the tone over most of one of the densest spacings, so line
+    # ends follow shapes and not film grain; edge-preserving (bilateral), so
+    # dark shapes keep their outlines.
     sigma = 1.5 * pen if o["smooth"] is None else o["smooth"]
     if sigma > 0:
-        tone = ndimage.gaussian_filter(tone, sigma, mode="nearest")
+        tone = _smoothed(tone, sigma)
     min_run = 4.0 * pen if o["min_length"] is None else o["min_length"]
     L = o["layers"]
-    # fields: (angle, spacing, level value(s) to select)
     if o["spacing"] is None:
-        level, plan = _plan_levels(tone, o["levels"], L, pen)
-        fields = [(j, s, ("eq", b)) for b, (k, s) in plan.items() for j in range(k)]
+        tone[tone < _MIN_TONE] = 0.0
+        fractions = _layer_fractions(tone, L, pen)
+        # Each layer's lattice is as dense as its darkest part needs (at most
+        # _MAX_FRACTION of the paper, except the last layer for near-black).
+        caps = [max(_MAX_FRACTION, float(f.max())) for f in fractions]
+        fields = [(f / c, pen / min(c, 1.0)) for f, c in zip(fractions, caps) if c > 0]
+        quant = o["levels"]
     else:
         s = o["spacing"]
         f = min(pen / s, 1.0)
@@ -277,16 +357,12 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
         level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
         level = _clean(level, pen)
         level[tone < _MIN_TONE] = 0
-        fields = [(j, s, ("ge", j + 1)) for j in range(L)]
+        fields = [((level >= j + 1).astype(np.float64), s) for j in range(L)]
+        quant = 0
     strokes = []
-    rotated = {}
-    for j, s, (how, val) in fields:
+    for j, (density, s) in enumerate(fields):
+        if not density.any():
+            continue
         ang = o["angle"] + _LAYER_OFFSETS[j]
-        if j not in rotated:
-            side, M = _rotation(lum.shape, ang)
-            rotated[j] = (_rotated(level, M, side), M)
-        R, M = rotated[j]
-        mask = (R == val) if how == "eq" else ((R >= val) & (R != _NONE))
-        for ch in _hatch_field(mask, s, pen, min_run):
-            strokes.append(ch @ M[:, :2].T + M[:, 2])
+        strokes += _hatch_layer(density.astype(np.float32), ang, s, pen, min_run, pen, quant)
     return finish(strokes, "hatch", 0.0, 0.0)
