@@ -110,7 +110,7 @@ def greedy_path(xy, partner, start=None, k=_K):
         if m < 2:
             break
         kq = min(kk + 2, m)
-        dd, idx = cKDTree(xy[live]).query(xy[live], k=kq, workers=-1)
+        dd, idx = cKDTree(xy[live]).query(xy[live], k=kq, workers=-1 if m > 20_000 else 1)
         u = np.repeat(live, kq)
         v = live[np.minimum(idx.ravel(), m - 1)]
         d = dd.ravel()

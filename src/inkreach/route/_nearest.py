@@ -57,7 +57,7 @@ def nearest_walk(pxy, pexit, pitem, n_items, start=None, first=None):
     visited = bytearray(n_items)
     full = cKDTree(pxy)
     k = min(_K + 1, P)
-    _, near = full.query(pxy, k=k, workers=-1)
+    _, near = full.query(pxy, k=k, workers=-1 if P > 20_000 else 1)
     near = np.asarray(near).reshape(P, k).tolist()
 
     out = []

@@ -58,10 +58,10 @@ def joint_time(d, vmax, amax):
 def default_budget(n_items, per_item=100e-6):
     """Default search budget in seconds for ``n_items`` items.
 
-    0.1 s plus ``per_item`` per item, but at least 600 us per item up to
-    0.5 s (small sets gain most from kicks), and at most 10 s.
+    0.1 s plus ``per_item`` per item, but at least 1.2 ms per item up to
+    0.3 s (small sets gain most from kicks), and at most 10 s.
     """
-    return float(min(max(0.1 + per_item * n_items, min(0.5, 600e-6 * n_items)), 10.0))
+    return float(min(max(0.1 + per_item * n_items, min(0.3, 1.2e-3 * n_items)), 10.0))
 
 
 class PathSearch:
@@ -168,7 +168,7 @@ class PathSearch:
         tree = cKDTree(xy)
         k = self.k
         kq = min(self.quad_pool * k + 2, n)
-        dd, idx = tree.query(xy, k=kq, p=p, workers=-1)
+        dd, idx = tree.query(xy, k=kq, p=p, workers=-1 if n > 20_000 else 1)
         idx = np.asarray(idx).reshape(n, kq)
         dd = np.asarray(dd).reshape(n, kq)
         partner = np.asarray(self.partner[:n])

@@ -153,7 +153,7 @@ class _Items:
             return
         sel = np.flatnonzero(self.closed[self.pitem])
         k = min(8, len(self.pxy))
-        d, j = cKDTree(self.pxy).query(self.pxy[sel], k=k, workers=-1)
+        d, j = cKDTree(self.pxy).query(self.pxy[sel], k=k, workers=-1 if len(sel) > 20_000 else 1)
         d = np.asarray(d).reshape(len(sel), k)
         j = np.asarray(j).reshape(len(sel), k)
         foreign = self.pitem[np.minimum(j, len(self.pxy) - 1)] != self.pitem[sel][:, None]
@@ -336,8 +336,8 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
         approach from it counts in the search. Without it the construction
         begins with the first stroke, and both ends of the path are free.
     time_budget : float, optional
-        Seconds of improvement (default 0.1 s + 100 us per stroke, but at
-        least 600 us per stroke up to 0.5 s, and at most 10 s). It is
+        Seconds of improvement (default 0.1 s + 80 us per stroke, but at
+        least 1.2 ms per stroke up to 0.3 s, and at most 10 s). It is
         counted in machine-independent work units, so the result depends
         only on the input and ``seed``; a wall-clock guard at four times
         the budget stops very slow machines.
@@ -377,7 +377,7 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     items.seed_entries()
     seq, _, _ = items.orient(items.greedy(start), start)
     n = len(strokes)
-    budget = default_budget(n, per_item=100e-6) if time_budget is None else float(time_budget)
+    budget = default_budget(n, per_item=80e-6) if time_budget is None else float(time_budget)
     search = PathSearch(items.xy, items.partner, seq, start=start, k=_NEIGHBOURS, quad_pool=3)
     work_limit = budget * UNITS_PER_SECOND
     deadline = time.perf_counter() + 4.0 * budget + 1.0
@@ -388,26 +388,37 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
         _entry_rounds(items, search, start, work_limit, deadline)
     rng = np.random.default_rng(seed)
     search.kick_search(rng, kicks=_KICKS_PER_ITEM * n, work_limit=work_limit, deadline=deadline)
-    _reorient(items, search, start, 1.1 * work_limit, deadline)
     if has_loops:
         _entry_rounds(items, search, start, 1.1 * work_limit, deadline)
+    _reorient(items, search, start, 1.1 * work_limit, deadline, final=True)
     return items.route(search.path(), start)
 
 
-def _reorient(items, search, start, work_limit, deadline):
-    """Exact directions and loop entries for the search's order; re-search if it paid."""
-    old = search.path()
-    seq, cost, moved = items.orient(old, start)
-    if cost < search.cost - 1e-9:
+def _reorient(items, search, start, work_limit, deadline, rounds=4, final=False):
+    """Exact directions and loop entries for the search's order; re-search if it paid.
+
+    With ``final`` the last round applies the directions without searching
+    again, so the result is the best orientation of its own order.
+    """
+    for r in range(rounds):
+        old = search.path()
+        seq, cost, moved = items.orient(old, start)
+        if not cost < search.cost - 1e-9:
+            return
         if moved:
             search.set_xy(moved, items.xy[moved])
         search.set_order(seq)
+        if final and r == rounds - 1:
+            return
         changed = np.flatnonzero(seq != old)
         active = np.unique(np.concatenate([seq[np.clip(changed + d, 0, len(seq) - 1)]
                                            for d in (-1, 0, 1)] + [np.asarray(moved, np.int64)]))
         if search.has_start:
             active = np.append(active, search.S)
         search.run(active.tolist(), work_limit=work_limit, deadline=deadline)
+        if final:
+            continue
+        return
 
 
 def _entry_rounds(items, search, start, work_limit, deadline, rounds=3):
