@@ -122,7 +122,8 @@ OPTIONS = {
     "contour": {
         "pen_px": _PEN,
         "levels": (6, "number of tone levels to draw lines at", _Number(1, 64, integer=True)),
-        "smooth": (2.0, "blur before tracing tone lines, in pixels", _Number(0.0, 50.0)),
+        "smooth": (None, "blur before tracing tone lines, in pixels (None: from picture size "
+                         "and its noise)", _Number(0.0, 50.0, none_ok=True)),
         "min_length": _MIN_LEN,
         "simplify": (0.5, _SIMPLIFY, _Number(0.0, 50.0)),
     },

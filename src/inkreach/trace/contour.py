@@ -5,7 +5,11 @@ from scipy import ndimage
 from skimage.measure import find_contours
 
 from . import _options
-from ._common import as_luminance, default_min_length, finish
+from ._common import as_luminance, default_min_length, finish, perceptual8
+from .outline import noise_sigma
+
+_LOOP_FLOOR = 2.0   # closed lines narrower than this many pen widths draw as blots
+                    # with at most a pen-wide hole (common practice)
 
 
 def _lightness(lum):
@@ -31,7 +35,22 @@ def contour_levels(img, levels):
     return lo + (hi - lo) * np.arange(1, levels + 1) / (levels + 1)
 
 
-def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=0.5):
+def _default_smooth(shape, noise):
+    """Blur for iso-tone lines: more for larger and for noisier pictures.
+
+    Common practice: about one pixel per 500 of the long side, and 2
+    pixels per grey level of noise (0-255 scale, `noise_sigma`), so the
+    lines follow shapes and not grain; between 1 and 8 pixels.
+    """
+    return float(np.clip(max(max(shape) / 500.0, 2.0 * noise), 1.0, 8.0))
+
+
+def _small_loop(c, floor):
+    """Whether ``c`` is a closed line whose extent is below ``floor`` px."""
+    return bool(np.allclose(c[0], c[-1]) and np.ptp(c, axis=0).max() < floor)
+
+
+def contour(lum, *, pen_px=2.0, levels=6, smooth=None, min_length=None, simplify=0.5):
     """Draw iso-tone lines of a smoothed picture.
 
     Tones are compared on CIE lightness L* (CIE 15, 2004), not linear
@@ -47,7 +66,8 @@ def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=
         Number of tone levels, evenly spaced between the darkest and the
         lightest tone.
     smooth : float, optional
-        Gaussian sigma in pixels applied first.
+        Gaussian sigma in pixels applied first; by default chosen from the
+        picture's size and its noise level (`noise_sigma`).
     min_length : float, optional
         Lines shorter than this are dropped; default about 1 % of the
         picture's long side.
@@ -58,7 +78,8 @@ def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=
     -------
     list of ndarray, shape (N, 2)
         Strokes in working pixels, x = column, y = row; closed lines end
-        where they start.
+        where they start.  Closed lines narrower than two pen widths
+        (blots, mostly crumbs of grain) are left out.
 
     Raises
     ------
@@ -84,12 +105,16 @@ def contour(lum, *, pen_px=2.0, levels=6, smooth=2.0, min_length=None, simplify=
                                        min_length=min_length, simplify=simplify))
     lum = as_luminance(lum)
     img = _lightness(lum)
-    if o["smooth"] > 0:
-        img = ndimage.gaussian_filter(img, o["smooth"], mode="nearest")
+    sigma = (_default_smooth(lum.shape, noise_sigma(perceptual8(lum))) if o["smooth"] is None
+             else o["smooth"])
+    if sigma > 0:
+        img = ndimage.gaussian_filter(img, sigma, mode="nearest")
+    floor = _LOOP_FLOOR * o["pen_px"]
     strokes = []
     if float(img.max() - img.min()) > 1e-3:
         for v in contour_levels(img, o["levels"]):
             for c in find_contours(img, v):
-                strokes.append(c[:, ::-1])   # (row, col) -> (x, y)
+                if not _small_loop(c, floor):
+                    strokes.append(c[:, ::-1])   # (row, col) -> (x, y)
     ml = default_min_length(lum.shape) if o["min_length"] is None else o["min_length"]
     return finish(strokes, "contour", ml, o["simplify"])

@@ -17,7 +17,6 @@ _LAYER_OFFSETS = (0.0, 90.0, 45.0, 135.0, 22.5, 112.5, 67.5, 157.5)
 _MAX_FRACTION = 0.4   # at most this much of the paper inked by one layer before
                       # another crossing layer is added (common practice)
 _MIN_TONE = 0.02      # lighter than this is left as bare paper
-_NONE = 255           # level-map value for "draw nothing"
 
 
 def layer_fraction(coverage, layers):
