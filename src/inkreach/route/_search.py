@@ -10,10 +10,13 @@ open path's cost.
 
 The tour is an array of nodes with an inverse position array. Moves are
 2-opt (reverse a segment; fixed edges are never cut, so the strokes in it
-turn round with it) and Or-opt (move a chain of one to three items to
-another gap, either way round), over K-nearest candidate lists with a
-queue of active nodes (don't-look bits), followed by random segment-swap
-kicks (iterated local search) while work is left.
+turn round with it), Or-opt (move a chain of one to three items to
+another gap, either way round), sequential 3-opt of the two-reversal kind
+(evaluated on the tour the first reversal would leave) and segment
+insertion of a run of any length, over candidate lists (nearest nodes
+and nearest per quadrant; the start node is a candidate of the nodes
+near it) with a queue of active nodes (don't-look bits), followed by
+random segment-swap kicks (iterated local search) while work is left.
 
 Work is counted in deterministic units (node activations plus moved
 array entries), so a given seed gives the same result on any machine; a
@@ -498,8 +501,7 @@ class PathSearch:
         return None
 
     # -- perturbation ------------------------------------------------------
-    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50,
-                    local=False):
+    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50):
         """Iterated local search: random segment swaps kept when they pay.
 
         Each kick swaps two adjacent short segments (a double bridge whose
@@ -512,37 +514,27 @@ class PathSearch:
         partner, tour, dist = self.partner, self.tour, self.dist
         w = min(window, M - 2)
         draws = rng.integers(0, 1 << 62, size=(kicks, 3))
-        neigh, pos = self.neigh, self.pos
         for p0, r1, r2 in draws.tolist():
             if self.work > work_limit or time.perf_counter() > deadline:
                 break
-            if local:
-                # Cut after a node, after one of its neighbours and after one
-                # of that one's neighbours; swap the two shorter arcs.
-                u = p0 % n
-                nu = neigh[u]
-                if not nu:
-                    continue
-                v = nu[r1 % len(nu)]
-                nv = neigh[v] if v < n else nu
-                x = nv[r2 % len(nv)]
-                q = sorted({pos[u], pos[v], pos[x]})
-                if len(q) < 3:
-                    continue
-                arcs = (q[1] - q[0], q[2] - q[1], M - q[2] + q[0])
-                k = min(range(3), key=lambda j: arcs[j] + arcs[(j + 1) % 3])
-                p0 = q[k]
-                o1 = arcs[k]
-                o2 = o1 + arcs[(k + 1) % 3]
-            else:
-                p0 %= M
-                o1 = 1 + r1 % (w - 2)
-                o2 = o1 + 1 + r2 % (w - 1 - o1)
-            cuts = (p0, (p0 + o1) % M, (p0 + o2) % M)
+            p0 %= M
+            o1 = 1 + r1 % (w - 2)
+            o2 = o1 + 1 + r2 % (w - 1 - o1)
+            # A cut on a fixed edge moves on by one (fixed edges never touch).
+            c0, c1, c2 = p0, (p0 + o1) % M, (p0 + o2) % M
+            if partner[tour[c0]] == tour[(c0 + 1) % M]:
+                c0 = (c0 + 1) % M
+            if partner[tour[c1]] == tour[(c1 + 1) % M]:
+                c1 = (c1 + 1) % M
+            if partner[tour[c2]] == tour[(c2 + 1) % M]:
+                c2 = (c2 + 1) % M
+            o1, o2 = (c1 - c0) % M, (c2 - c0) % M
+            if not 0 < o1 < o2 < M - 1:
+                continue
+            cuts = (c0, c1, c2)
+            p0 = c0
             a0, a1, a2 = tour[cuts[0]], tour[cuts[1]], tour[cuts[2]]
             b0, b1, b2 = tour[(cuts[0] + 1) % M], tour[(cuts[1] + 1) % M], tour[(cuts[2] + 1) % M]
-            if partner[a0] == b0 or partner[a1] == b1 or partner[a2] == b2:
-                continue
             before = self.cost
             self._log = []
             # A B C E -> A C B E: swap the segments B = b0..a1 and C = b1..a2.

@@ -320,12 +320,18 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     """Order and orient strokes for the least pen-up travel.
 
     Each stroke may be drawn either way; a closed stroke (first point equal
-    to last) may be entered at any vertex. The order is built by nearest
-    neighbour over stroke ends (KD-tree) and improved by 2-opt (reversing a
-    run of strokes, each turning round) and Or-opt (moving a chain of one to
-    three strokes elsewhere, possibly reversed) over 8-nearest candidate
-    lists with don't-look bits, then by random segment-swap kicks kept when
-    they shorten the path, and by re-picking loop entry vertices.
+    to last) may be entered at any vertex. The order is built by greedy
+    edge matching over stroke ends (KD-tree candidates, shortest first,
+    then rounds over the free ends of the fragments), and improved by local
+    search over 10 candidates per end (nearest and per quadrant) with
+    don't-look bits: 2-opt (reversing a run of strokes, each turning
+    round), Or-opt (moving a chain of one to three strokes, either way
+    round), sequential 3-opt of the two-reversal kind, and segment
+    insertion of runs of any length; then by an iterated local search of
+    local double-bridge kicks, undone unless the path got shorter. After
+    each phase the directions of all strokes and the loop entry vertices
+    are chosen exactly for the order found, by a Viterbi pass, and loop
+    entries are re-picked among all vertices.
 
     Parameters
     ----------
@@ -360,6 +366,16 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
        don't-look bits).
     .. [4] O. Martin, S. W. Otto and E. W. Felten, "Large-step Markov chains
        for the traveling salesman problem", Complex Systems 5, 1991 (kicks).
+    .. [5] S. Lin and B. W. Kernighan, "An effective heuristic algorithm for
+       the traveling-salesman problem", Operations Research 21(2), 1973
+       (sequential 3-opt as a two-step move).
+    .. [6] D. S. Johnson and L. A. McGeoch, "The traveling salesman
+       problem: a case study in local optimization", in *Local Search in
+       Combinatorial Optimization*, Wiley, 1997 (greedy starts, quadrant
+       neighbours, iterated 3-opt).
+    .. [7] A. J. Viterbi, "Error bounds for convolutional codes and an
+       asymptotically optimum decoding algorithm", IEEE Trans. Information
+       Theory 13(2), 1967 (the direction pass).
 
     Examples
     --------
