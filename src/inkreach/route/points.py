@@ -5,6 +5,7 @@ import time
 import numpy as np
 
 from ..errors import InkreachError
+from ._greedy import greedy_path
 from ._nearest import nearest_walk
 from ._search import UNITS_PER_SECOND, PathSearch, default_budget
 
@@ -21,7 +22,7 @@ def _as_points(points):
 
 
 def order_points(points, start=None, time_budget=None):
-    """Short open path through points: nearest neighbour, then 2-opt/Or-opt.
+    """Short open path through points: greedy edges, then local search and kicks.
 
     Parameters
     ----------
@@ -66,9 +67,10 @@ def order_points(points, start=None, time_budget=None):
         return np.zeros(0, dtype=np.int64)
     if start is not None:
         start = np.asarray(start, dtype=float).reshape(2)
-    order = nearest_walk(p, np.arange(n), np.arange(n), n, start=start)
     if n < 3:
+        order = nearest_walk(p, np.arange(n), np.arange(n), n, start=start)
         return _small_best(p, start, order)
+    order = greedy_path(p, np.arange(n), start)
     budget = default_budget(n) if time_budget is None else float(time_budget)
     return _improve(p, np.arange(n), order, start, budget, seed=0)
 
