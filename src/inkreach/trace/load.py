@@ -156,10 +156,31 @@ def _linear_from_pil(im):
     return _linear_from_array(np.asarray(im))
 
 
+def _linear_from_rgb8(a, rows=256):
+    """Linear luminance of 8-bit sRGB(A), a band of rows at a time.
+
+    Decoding a whole 12-megapixel colour picture to floating point at once
+    would hold several times its size in memory; a band of rows keeps the
+    working set small and gives the same values.
+    """
+    h, w = a.shape[:2]
+    out = np.empty((h, w), dtype=np.float32)
+    for r0 in range(0, h, rows):
+        band = a[r0:r0 + rows]
+        y = luminance_from_linear_rgb(_LUT8[band[..., :3]])
+        if a.shape[2] == 4:
+            alpha = band[..., 3].astype(np.float32) / 255.0
+            y = alpha * y + (1.0 - alpha)
+        out[r0:r0 + rows] = np.clip(y, 0.0, 1.0)
+    return out
+
+
 def _linear_from_array(a):
     """Linear luminance from an sRGB-encoded array, alpha composited on white."""
     if a.ndim == 3 and a.shape[2] == 1:
         a = a[..., 0]
+    if a.dtype == np.uint8 and a.ndim == 3 and a.shape[2] >= 3:
+        return _linear_from_rgb8(a)
     if a.dtype == np.uint8:
         lin = _LUT8[a]
         alpha = None
