@@ -61,10 +61,10 @@ def joint_time(d, vmax, amax):
 def default_budget(n_items, per_item=100e-6):
     """Default search budget in seconds for ``n_items`` items.
 
-    0.1 s plus ``per_item`` per item, but at least 1.2 ms per item up to
-    0.3 s (small sets gain most from kicks), and at most 10 s.
+    ``per_item`` per item, but at least 1.2 ms per item up to 0.3 s (small
+    sets gain most from kicks), and at most 10 s.
     """
-    return float(min(max(0.1 + per_item * n_items, min(0.3, 1.2e-3 * n_items)), 10.0))
+    return float(min(max(per_item * n_items, min(0.3, 1.2e-3 * n_items)), 10.0))
 
 
 class PathSearch:

@@ -34,8 +34,8 @@ def order_points(points, start=None, time_budget=None):
         begins near ``start``. Without it both ends of the path are free.
     time_budget : float, optional
         Seconds of improvement after the construction (default
-        0.1 s + 100 us per point, but at least 1.2 ms per point up to
-        0.3 s, and at most 10 s). The budget is counted in
+        100 us per point, but at least 1.2 ms per point up to 0.3 s,
+        and at most 10 s). The budget is counted in
         machine-independent work units, so the result is reproducible.
 
     Returns

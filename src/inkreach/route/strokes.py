@@ -342,8 +342,8 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
         approach from it counts in the search. Without it the construction
         begins with the first stroke, and both ends of the path are free.
     time_budget : float, optional
-        Seconds of improvement (default 0.1 s + 80 us per stroke, but at
-        least 1.2 ms per stroke up to 0.3 s, and at most 10 s). It is
+        Seconds of improvement (default 70 us per stroke, but at least
+        1.2 ms per stroke up to 0.3 s, and at most 10 s). It is
         counted in machine-independent work units, so the result depends
         only on the input and ``seed``; a wall-clock guard at four times
         the budget stops very slow machines.
@@ -393,7 +393,7 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     items.seed_entries()
     seq, _, _ = items.orient(items.greedy(start), start)
     n = len(strokes)
-    budget = default_budget(n, per_item=80e-6) if time_budget is None else float(time_budget)
+    budget = default_budget(n, per_item=70e-6) if time_budget is None else float(time_budget)
     search = PathSearch(items.xy, items.partner, seq, start=start, k=_NEIGHBOURS, quad_pool=3)
     work_limit = budget * UNITS_PER_SECOND
     deadline = time.perf_counter() + 4.0 * budget + 1.0
