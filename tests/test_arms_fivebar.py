@@ -2,7 +2,7 @@
 
 import numpy as np
 import pytest
-from hypothesis import assume, given, settings, strategies as st
+from hypothesis import HealthCheck, assume, given, settings, strategies as st
 from scipy.optimize import least_squares
 
 from inkreach.arms import FiveBar, Limits, default_arm, load_arm
@@ -56,7 +56,8 @@ def arms_and_points(draw):
     return arm, q
 
 
-@settings(max_examples=300, deadline=None)
+@settings(max_examples=300, deadline=None,
+          suppress_health_check=[HealthCheck.filter_too_much, HealthCheck.too_slow])
 @given(arms_and_points())
 def test_ik_then_fk_returns_the_point(sample):
     arm, q = sample
@@ -67,7 +68,8 @@ def test_ik_then_fk_returns_the_point(sample):
         np.testing.assert_allclose(arm.fk(q2), p, atol=1e-6)
 
 
-@settings(max_examples=200, deadline=None)
+@settings(max_examples=200, deadline=None,
+          suppress_health_check=[HealthCheck.filter_too_much, HealthCheck.too_slow])
 @given(arms_and_points())
 def test_fk_then_ik_recovers_angles_in_the_matching_mode(sample):
     arm, q = sample
