@@ -98,7 +98,8 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200, export=True):
 
 def _as_plan(out, style, size):
     """A Plan value from the stage outputs (what the planner would return)."""
-    from inkreach import plan as plan_mod
+    import importlib
+    plan_mod = importlib.import_module("inkreach.plan")
     from inkreach.route import travel_stats
     from inkreach.signals import make_signals
 
