@@ -102,39 +102,15 @@ def _farthest_points(pts, n, first):
 
 
 def _short_path(P, start_xy=None):
-    """An open path through all points: nearest neighbour, then 2-opt."""
-    n = len(P)
-    if n <= 2:
-        return np.arange(n)
-    D = np.hypot(*(P[:, None, :] - P[None, :, :]).transpose(2, 0, 1))
-    if start_xy is not None and np.all(np.isfinite(start_xy)):
-        cur = int(np.argmin(np.hypot(*(P - start_xy).T)))
-    else:
-        cur = 0
-    left = np.ones(n, bool)
-    order = [cur]
-    left[cur] = False
-    for _ in range(n - 1):
-        d = np.where(left, D[cur], np.inf)
-        cur = int(np.argmin(d))
-        order.append(cur)
-        left[cur] = False
-    order = np.array(order)
-    # 2-opt on an open path whose first point stays fixed: reversing
-    # order[i:j+1] replaces edges (i-1, i) and (j, j+1) by (i-1, j) and (i, j+1).
-    improved = True
-    while improved:
-        improved = False
-        for i in range(1, n - 1):
-            a = order[i - 1]
-            j = np.arange(i + 1, n)
-            b, c = order[i], order[j]
-            nxt = np.append(order[j[:-1] + 1], -1)
-            old = D[a, b] + np.where(nxt >= 0, D[c, nxt], 0.0)
-            new = D[a, c] + np.where(nxt >= 0, D[b, nxt], 0.0)
-            gain = old - new
-            k = int(np.argmax(gain))
-            if gain[k] > 1e-9:
-                order[i:j[k] + 1] = order[i:j[k] + 1][::-1]
-                improved = True
-    return order
+    """An open path through all points, from the one nearest ``start_xy``.
+
+    The route stage's point ordering (greedy construction, 2-opt, Or-opt
+    and kicks) does the work.
+    """
+    from ..route import order_points
+
+    P = np.asarray(P, dtype=float)
+    if len(P) <= 2:
+        return np.arange(len(P))
+    start = start_xy if start_xy is not None and np.all(np.isfinite(start_xy)) else P[0]
+    return np.asarray(order_points(P, start=np.asarray(start, dtype=float)), dtype=int)
