@@ -89,11 +89,11 @@ def circle_intersection(c0, r0, c1, r1, side):
         a_d = 0.5 * (1.0 + (r0 * r0 - r1 * r1) * inv_d2)
         h2_d2 = r0 * r0 * inv_d2 - a_d * a_d
         h_d = np.sqrt(h2_d2)  # NaN where the circles do not meet
-    h_d = h_d * side
-    out = np.empty(np.broadcast(dx, x0).shape + (2,))
-    out[..., 0] = x0 + a_d * dx - h_d * dy
-    out[..., 1] = y0 + a_d * dy + h_d * dx
-    bad = ~(d2 > 0) | ~(h2_d2 >= 0)
+        h_d = h_d * side
+        out = np.empty(np.broadcast(dx, x0).shape + (2,))
+        out[..., 0] = x0 + a_d * dx - h_d * dy
+        out[..., 1] = y0 + a_d * dy + h_d * dx
+        bad = ~(d2 > 0) | ~(h2_d2 >= 0)
     if bad.any():
         out[bad] = np.nan
     return out
