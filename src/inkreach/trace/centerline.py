@@ -144,5 +144,5 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
     else:
         prune = o["prune"]
     ml = default_min_length(lum.shape) if o["min_length"] is None else o["min_length"]
-    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"])
+    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"], min_length=ml)
     return finish(strokes, "centerline", ml, o["simplify"], 0.0, lum.shape)

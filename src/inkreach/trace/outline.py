@@ -199,5 +199,5 @@ def outline(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None,
     ml = _outline_min_length(lum.shape, o["pen_px"]) if o["min_length"] is None \
         else o["min_length"]
     prune = max(2.0 * o["pen_px"], 3.0)
-    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"])
+    strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"], min_length=ml)
     return finish(strokes, "outline", ml, o["simplify"], 0.0, lum.shape)
