@@ -476,9 +476,8 @@ def trace_skeleton(skeleton, *, prune=0, min_length=0, simplify=0, smooth=0):
         # Entry end a of the first edge, exit end (a ^ 1) of the last.
         pins.append((deg[node_of_end[steps[0]]] > 1, deg[node_of_end[steps[-1] ^ 1]] > 1))
     if min_length > 0 and smooth > 0:
-        # Drop the crumbs before the (per-stroke) smoothing, which costs far
-        # more than they do; the pixel staircase makes a raw path at most
-        # sqrt(2) times longer than its smoothed curve.
+        # Drop the crumbs before smoothing them; the pixel staircase makes a
+        # raw path at most sqrt(2) times longer than its smoothed curve.
         keep = polyline_lengths(strokes) >= min_length / np.sqrt(2.0)
         strokes = [s for s, k in zip(strokes, keep) if k]
         pins = [p for p, k in zip(pins, keep) if k]
