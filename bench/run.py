@@ -410,7 +410,7 @@ def section_drawing(cfg, results):
         except Exception as exc:  # noqa: BLE001
             rows.append([st, _na(exc)] + ["—"] * 10)
     return ("The demo still life (960x720) on the default arm, one plan per style. Times "
-            "from `plan.stats` (pen-up includes the lift dwell). Fidelity: the drawing "
+            "from `plan.stats` (pen-down, pen-up travel and the lift dwell add up to the estimate). Fidelity: the drawing "
             "rendered from the stream's angles (FK) against the picture in linear "
             "reflectance, both blurred at 3.5 pen widths (SSIM of Wang et al. 2004 and "
             "mean absolute tone error; `inkreach.fidelity`).\n\n"

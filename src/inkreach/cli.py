@@ -330,7 +330,8 @@ def _figures_table(result, written):
         ("pen-down length", f"{st['pen_down_mm'] / 1000:.2f} m"),
         ("pen-up length", f"{st['pen_up_mm'] / 1000:.2f} m"),
         ("drawing time", f"{_fmt_time(st['estimated_s'])} (drawing {_fmt_time(st['pen_down_s'])},"
-                         f" travel and lifts {_fmt_time(st['pen_up_s'])})"),
+                         f" pen-up travel {_fmt_time(st['pen_up_s'])}, lifting and lowering "
+                         f"{_fmt_time(st['lift_dwell_s'])})"),
         ("drawing size", f"{st['drawing_mm'][0]:.1f} × {st['drawing_mm'][1]:.1f} mm at "
                          f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm,"
                          f" rotated {st['rotation_deg']:.0f}°"),

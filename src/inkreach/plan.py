@@ -282,11 +282,11 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
 def _stats(travel, stream, report, placement, arm, style, strokes):
     pen = stream.pen.astype(bool)
     dt = stream.period
-    down_s = float(pen.sum()) * dt
-    # lifting and lowering dwell: rows that hold still at a pen change
-    still = np.zeros(len(pen), bool)
-    still[1:] = np.all(np.abs(np.diff(stream.q, axis=0)) < 1e-12, axis=1)
-    lift_s = float((still & ~pen).sum() + (still & pen).sum()) * dt
+    # every stroke is lowered onto and lifted off the paper for lift_s each,
+    # rounded up to whole sample periods (as the motion stage holds still)
+    n_dwell = max(1, int(np.ceil(arm.pen.lift_s / dt - 1e-9)))
+    lift_s = 2.0 * len(strokes) * n_dwell * dt
+    down_s = max(float(pen.sum()) * dt - len(strokes) * n_dwell * dt, 0.0)
     x0, y0, w, h = placement.bbox
     t = travel.as_dict()
     stats = {
@@ -297,7 +297,7 @@ def _stats(travel, stream, report, placement, arm, style, strokes):
         "pen_up_mm": round(float(t["pen_up_mm"]), 3),
         "estimated_s": round(float(stream.duration), 3),
         "pen_down_s": round(down_s, 3),
-        "pen_up_s": round(float(stream.duration) - down_s, 3),
+        "pen_up_s": round(max(float(stream.duration) - down_s - lift_s, 0.0), 3),
         "lift_dwell_s": round(lift_s, 3),
         "min_conditioning": round(float(report.min_conditioning), 4),
         "drawing_mm": [round(float(w), 2), round(float(h), 2)],
