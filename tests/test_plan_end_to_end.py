@@ -85,6 +85,9 @@ def test_example_arms_plan_and_pass_independent_checks(arm_name, style, tmp_path
     arm = load_arm(arm_name)
     p = inkreach.plan(path, arm=arm, style=style, max_side=300)
     _check_plan_files(p.files(), arm)
+    # rounding to whole steps moves the pen by at most |J| times half a step
+    # (first-order bound, Craig ch. 5): a few tenths of a millimetre here
+    assert 0.0 <= p.stats["signal_rounding_mm"] < 0.5
 
 
 def test_image_to_arm_maps_input_pixels_to_the_drawn_strokes(tmp_path):

@@ -338,6 +338,9 @@ def _figures_table(result, written):
         ("worst conditioning", f"{st['min_conditioning']:.3f} (floor "
                                f"{result.arm.limits.min_conditioning:g})"),
     ]
+    if "signal_rounding_mm" in st:
+        rows.append(("signal rounding", f"at most {st['signal_rounding_mm']:.3f} mm at the pen "
+                                        f"({', '.join(result.signals)})"))
     if "fidelity" in st:
         f = st["fidelity"]
         rows.append(("fidelity", f"SSIM {f['ssim']:.3f}, tone error {f['tone_error']:.3f}"))

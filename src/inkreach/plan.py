@@ -271,6 +271,11 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
              image_size=(int(W), int(H)))
+    if signals:
+        # the worst pen-position error that rounding the angles to whole
+        # steps or whole microseconds causes, by forward kinematics
+        err = np.hypot(*(_reached_xy(p) - stream.xy).T)
+        stats["signal_rounding_mm"] = round(float(np.nanmax(err)), 5) if len(err) else 0.0
     if own["fidelity"]:
         step("fidelity", 0, 1)
         from .fidelity import plan_fidelity
