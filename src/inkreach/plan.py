@@ -44,6 +44,9 @@ class Plan:
         Motor signals by kind (``"servo"``, ``"stepper"``).
     report : StreamReport
         What the final safety check measured.
+    reached_xy : ndarray, shape (N, 2)
+        Pen positions the motors really reach, row by row, once the angles
+        are rounded to whole steps or microseconds.
     """
 
     strokes: list
@@ -57,6 +60,7 @@ class Plan:
     report: object = None
     workspace: object = None
     image_size: tuple = None
+    reached_xy: np.ndarray = None
 
     @property
     def image_to_arm(self):
@@ -72,7 +76,7 @@ class Plan:
     def simulated(self):
         """What the arm will really draw, from the angles the motors reach."""
         from .export import simulated_png
-        return simulated_png(_reached_xy(self), self.stream.pen, self.arm.pen.width_mm)
+        return simulated_png(self.reached_xy, self.stream.pen, self.arm.pen.width_mm)
 
     def files(self):
         """Every output file of this plan, name -> bytes or text."""
@@ -81,7 +85,7 @@ class Plan:
         png = export.png_bytes
 
         extra = {"arm": arm_to_toml(self.arm), "style": self.style,
-                 "options": _jsonable(self.options), "image_size": self.image_size}
+                 "options": self.options, "image_size": self.image_size}
         out = {
             "plan.json": export.plan_json(self.strokes, self.image_to_arm, self.stats, extra),
             "joints.csv": export.joints_csv(self.stream),
@@ -115,23 +119,10 @@ class Plan:
         return {name: os.path.join(os.fspath(folder), name) for name in files}
 
 
-def _jsonable(v):
-    if isinstance(v, dict):
-        return {k: _jsonable(x) for k, x in v.items()}
-    if isinstance(v, (list, tuple)):
-        return [_jsonable(x) for x in v]
-    if isinstance(v, np.generic):
-        return v.item()
-    if isinstance(v, np.ndarray):
-        return v.tolist()
-    return v
-
-
-def _reached_xy(p):
+def _reached_xy(stream, arm, signals):
     """Pen positions the motors really reach, after signal quantisation."""
     from .signals import quantised_angles
-    q = quantised_angles(p.stream, p.arm, p.signals)
-    return p.arm.fk(q)
+    return arm.fk(quantised_angles(stream, arm, signals))
 
 
 def resolve_arm(arm):
@@ -142,7 +133,7 @@ def resolve_arm(arm):
         return arm
     if isinstance(arm, (str, os.PathLike)):
         s = os.fspath(arm)
-        if "\n" in s or "=" in s:
+        if ("\n" in s or "=" in s) and not os.path.exists(s):
             return parse_arm(s, source="uploaded arm")
         return load_arm(s)
     raise InkreachError(f"arm must be a path, a built-in name or an arm, got {type(arm).__name__}")
@@ -208,7 +199,7 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     from .signals import make_signals
     from .trace import load_image, trace
 
-    step = _progress(progress)
+    step = progress or (lambda *a: None)
     options = dict(options)
     if "pen_px" in options:
         raise InkreachError("option pen_px is set from the arm's pen width; change [pen] "
@@ -245,8 +236,9 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     strokes_mm = placement.apply_all(merged)
     start_q = arm.home() if own["start"] is None else np.deg2rad(np.asarray(own["start"], float))
     if start_q is None:
-        start_xy = wmap.best_point() if not len(strokes_mm) else placement.hull.mean(0)
-        start_q = arm.ik(start_xy)
+        # no rest posture: start over the middle of the drawing (its hull is
+        # convex and usable, so its centroid is too)
+        start_q = arm.ik(placement.hull.mean(0))
     start_xy = arm.fk(start_q)
     step("route", 0, 1)
     route = order_strokes(strokes_mm, start=start_xy)
@@ -256,26 +248,27 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         budget = min(1.0, 0.05 + 20e-6 * len(route.strokes))
         route = reorder_joint_space(route, arm, start_q=start_q, time_budget=budget)
     step("motion", 0, 1)
-    hull = np.asarray(placement.hull, dtype=float)
-    region = hull if len(hull) >= 3 and abs(_area(hull)) > 1e-6 else None
+    # a flat drawing (one straight line) has a two-point hull: no region
+    region = placement.hull if len(placement.hull) >= 3 else None
     stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
                          **motion_opts)
     step("check", 0, 1)
     report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
     signals = make_signals(stream, arm, kind=own["signals"])
+    reached = _reached_xy(stream, arm, signals)
     travel = travel_stats(route.strokes, start=start_xy)
     stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
+    if signals:
+        # the worst pen-position error that rounding the angles to whole
+        # steps or whole microseconds causes, by forward kinematics
+        stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
+                                            5)
     used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
-             image_size=(int(W), int(H)))
-    if signals:
-        # the worst pen-position error that rounding the angles to whole
-        # steps or whole microseconds causes, by forward kinematics
-        err = np.hypot(*(_reached_xy(p) - stream.xy).T)
-        stats["signal_rounding_mm"] = round(float(np.nanmax(err)), 5) if len(err) else 0.0
+             image_size=(int(W), int(H)), reached_xy=reached)
     if own["fidelity"]:
         step("fidelity", 0, 1)
         from .fidelity import plan_fidelity
@@ -317,14 +310,3 @@ def _stats(travel, stream, report, placement, arm, style, strokes):
         "arm": arm.name,
     }
     return stats
-
-
-def _area(poly):
-    x, y = poly[:, 0], poly[:, 1]
-    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
-
-
-def _progress(cb):
-    if cb is None:
-        return lambda *a: None
-    return cb
