@@ -60,3 +60,13 @@ def test_quantised_angles_takes_a_signal_dict_and_prefers_steppers():
     assert np.array_equal(quantised_angles(s, {}), s.q)
     assert np.array_equal(quantised_angles(s, {"servo": sig["servo"]}),
                           quantised_angles(s, sig["servo"]))
+
+
+@pytest.mark.parametrize("name", ["servo", "stepper"])
+def test_hardware_entry_that_is_not_a_table_is_refused_in_one_line(name):
+    from inkreach.signals import stepper_config_from_arm
+    read = {"servo": servo_calibration_from_arm, "stepper": stepper_config_from_arm}[name]
+    arm = parse_arm(f"{name} = 3\n" + arm_to_toml(_bare_default()))
+    with pytest.raises(InkreachError, match=rf"arm file \[{name}\] must be a table") as info:
+        read(arm)
+    assert "\n" not in str(info.value)

@@ -5,6 +5,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InkreachError
+from ._hardware import hardware_table
 
 __all__ = ["ServoCalibration", "ServoSignals", "servo_pulses", "servo_calibration_from_arm"]
 
@@ -278,13 +279,7 @@ def servo_calibration_from_arm(arm):
     >>> cal.angle_range(0)
     (30.0, 210.0)
     """
-    table = dict((getattr(arm, "hardware", None) or {}).get("servo", {}) or {})
-    if not isinstance(table, dict):
-        raise InkreachError("arm file [servo] must be a table; see the docs for its keys")
-    unknown = sorted(set(table) - set(_SERVO_KEYS))
-    if unknown:
-        raise InkreachError(f"arm file [servo] has unknown key {', '.join(unknown)}; "
-                            f"allowed: {', '.join(_SERVO_KEYS)}")
+    table = hardware_table(arm, "servo", _SERVO_KEYS)
     m1, m2 = _default_for(arm)
     kw = {"motor1": table.get("motor1", m1), "motor2": table.get("motor2", m2)}
     for k in ("pen_up_us", "pen_down_us", "frame_hz"):

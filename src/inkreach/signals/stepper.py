@@ -5,6 +5,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InkreachError
+from ._hardware import hardware_table
 
 __all__ = ["StepperConfig", "StepperSignals", "PenError", "stepper_steps",
            "stepper_config_from_arm", "worst_pen_error_mm"]
@@ -329,14 +330,7 @@ def stepper_config_from_arm(arm):
     >>> stepper_config_from_arm(default_arm()).zero_deg
     (120.0, 60.0)
     """
-    table = (getattr(arm, "hardware", None) or {}).get("stepper", {}) or {}
-    if not isinstance(table, dict):
-        raise InkreachError("arm file [stepper] must be a table; see the docs for its keys")
-    unknown = sorted(set(table) - set(_STEPPER_KEYS))
-    if unknown:
-        raise InkreachError(f"arm file [stepper] has unknown key {', '.join(unknown)}; "
-                            f"allowed: {', '.join(_STEPPER_KEYS)}")
-    kw = dict(table)
+    kw = hardware_table(arm, "stepper", _STEPPER_KEYS)
     if "zero_deg" not in kw:
         kw["zero_deg"] = tuple(arm.home_deg) if arm.home_deg is not None else (0.0, 0.0)
     try:
