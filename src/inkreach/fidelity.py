@@ -309,7 +309,7 @@ def fidelity(plan_or_parts, image=None, *, blur_mm=None, max_side=WORK_SIDE):
     pic = load_image(image, max_side=max_side)
     h, w = pic.shape
     sx, sy = (float(v) for v in pic.scale_xy)
-    inv = placement.inverse() if hasattr(placement, "inverse") else _inverse(placement.matrix)
+    inv = placement.inverse()
     paths = []
     for p in drawn_polylines(stream, arm):
         uv = p @ inv[:, :2].T + inv[:, 2]                 # original picture pixels
@@ -322,12 +322,6 @@ def fidelity(plan_or_parts, image=None, *, blur_mm=None, max_side=WORK_SIDE):
         blur_px = float(blur_mm) / mm_per_px
     cov = render_coverage(paths, (h, w), pen_px)
     return fidelity_images(1.0 - cov, pic.luminance, blur_px)
-
-
-def _inverse(matrix):
-    m = np.asarray(matrix, dtype=float)
-    ai = np.linalg.inv(m[:, :2])
-    return np.hstack([ai, -(ai @ m[:, 2])[:, None]])
 
 
 def plan_fidelity(plan, image):
