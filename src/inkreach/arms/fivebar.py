@@ -79,6 +79,11 @@ class FiveBar(Arm):
         eR = mR + self.right_upper * np.stack([np.cos(q[:, 1]), np.sin(q[:, 1])], 1)
         return eL, eR
 
+    def _assemble(self, q):
+        """Elbows and pen joint (each (N, 2)) in the assembly of the conventions."""
+        eL, eR = self.elbows_at(q)
+        return eL, eR, circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+
     def joints(self, q):
         """Every joint of the linkage for drawing it.
 
@@ -89,8 +94,7 @@ class FiveBar(Arm):
             ``right_motor`` and ``pen``.
         """
         q = np.atleast_2d(np.asarray(q, dtype=float))
-        eL, eR = self.elbows_at(q)
-        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        eL, eR, P = self._assemble(q)
         mL, mR = self._motors()
         n = len(q)
         return {
@@ -123,8 +127,7 @@ class FiveBar(Arm):
         """
         q = np.asarray(q, dtype=float)
         single = q.ndim == 1
-        eL, eR = self.elbows_at(q)
-        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        eL, _, P = self._assemble(q)
         X = self._pen_from(eL, P)
         return X[0] if single else X
 
@@ -199,8 +202,7 @@ class FiveBar(Arm):
         return J[0] if single else J
 
     def _jacobian_parts(self, q):
-        eL, eR = self.elbows_at(q)
-        P = circle_intersection(eL, self.left_lower, eR, self.right_lower, 1.0)
+        eL, eR, P = self._assemble(q)
         a = P - eL
         b = P - eR
         dL = self.left_upper * np.stack([-np.sin(q[:, 0]), np.cos(q[:, 0])], 1)
