@@ -31,6 +31,8 @@ from collections import deque
 import numpy as np
 from scipy.spatial import cKDTree
 
+from ..motion import trapezoid_time
+
 __all__ = []
 
 _EPS = 1e-9
@@ -39,23 +41,6 @@ _EPS = 1e-9
 # (two cores, busy): one unit is one node activation, one 3-opt search from
 # a node, or one array move (plus one per 2048 entries moved).
 UNITS_PER_SECOND = 140_000.0
-
-
-def joint_time(d, vmax, amax):
-    """Time of a rest-to-rest joint move of ``d`` radians (vectorised).
-
-    Trapezoidal velocity profile: ``d/v + v/a`` when the joint reaches full
-    speed (``d > v^2/a``), else the triangle time ``2 sqrt(d/a)``.
-
-    References
-    ----------
-    .. [1] J. J. Craig, *Introduction to Robotics: Mechanics and Control*,
-       3rd ed., Pearson, 2005, section 7.3 (linear function with parabolic
-       blends).
-    """
-    d = np.abs(np.asarray(d, dtype=float))
-    v, a = float(vmax), float(amax)
-    return np.where(d > v * v / a, d / v + v / a, 2.0 * np.sqrt(d / a))
 
 
 def default_budget(n_items, per_item=100e-6):
@@ -196,7 +181,7 @@ class PathSearch:
         dd = np.take_along_axis(dd, cols, 1)
         bad = np.take_along_axis(bad, cols, 1)
         if self.kind != "euclidean":
-            dd = joint_time(dd, self.vmax, self.amax)
+            dd = trapezoid_time(dd, self.vmax, self.amax)
         out = idx.tolist()
         dist_out = dd.tolist()
         if bad.any():
@@ -247,7 +232,7 @@ class PathSearch:
         if self.kind == "euclidean":
             c = np.hypot(d[:, 0], d[:, 1])
         else:
-            c = joint_time(np.abs(d).max(axis=1), self.vmax, self.amax)
+            c = trapezoid_time(np.abs(d).max(axis=1), self.vmax, self.amax)
         dummy = (u == self.D) | (w == self.D) | (u == self.S) & (w == self.S)
         if not self.has_start:
             dummy |= (u == self.S) | (w == self.S)

@@ -5,7 +5,8 @@ import time
 import numpy as np
 
 from ..errors import InkreachError
-from ._search import UNITS_PER_SECOND, PathSearch, default_budget, joint_time
+from ..motion import trapezoid_time
+from ._search import UNITS_PER_SECOND, PathSearch, default_budget
 from .stats import travel_stats
 from .strokes import Route, _as_strokes, _Items
 
@@ -86,9 +87,9 @@ def pen_up_time(strokes, arm, start_q=None):
     last = _angles(arm, [s[-1] for s in strokes])
     v, a, lift = arm.limits.max_speed, arm.limits.max_accel, arm.pen.lift_s
     d = np.abs(first[1:] - last[:-1]).max(axis=1) if len(strokes) > 1 else np.zeros(0)
-    total = float(joint_time(d, v, a).sum() + 2.0 * lift * len(d))
+    total = float(trapezoid_time(d, v, a).sum() + 2.0 * lift * len(d))
     if start is not None:
-        total += float(joint_time(np.abs(first[0] - start).max(), v, a)) + lift
+        total += float(trapezoid_time(np.abs(first[0] - start).max(), v, a)) + lift
     return total
 
 
