@@ -45,13 +45,6 @@ def _default_blur(shape, noise=0.0):
     return max(1.0, max(shape) / 600.0, min(0.9 * noise, 4.0))
 
 
-def _smoothed8(lum, blur):
-    img = perceptual8(lum)
-    if blur and blur > 0:
-        img = cv2.GaussianBlur(img, (0, 0), float(blur))
-    return img
-
-
 def _outline_min_length(shape, pen_px):
     # Edges of texture and shading come as short crumbs; 2.5 % of the long
     # side (and at least 8 pen widths) keeps shapes and drops them (common
@@ -131,10 +124,10 @@ def outline_edges(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None
     """
     o = _options.check("outline", dict(pen_px=pen_px, detail=detail, low=low, high=high,
                                        blur=blur))
-    lum = as_luminance(lum)
-    blur = (_default_blur(lum.shape, noise_sigma(perceptual8(lum))) if o["blur"] is None
-            else o["blur"])
-    img = _smoothed8(lum, blur)
+    img = perceptual8(as_luminance(lum))
+    blur = _default_blur(img.shape, noise_sigma(img)) if o["blur"] is None else o["blur"]
+    if blur > 0:
+        img = cv2.GaussianBlur(img, (0, 0), float(blur))
     lo, hi = edge_thresholds(img, o["detail"])
     lo = lo if o["low"] is None else o["low"]
     hi = hi if o["high"] is None else o["high"]
@@ -193,11 +186,10 @@ def outline(lum, *, pen_px=2.0, detail=0.5, low=None, high=None, blur=None,
     o = _options.check("outline", dict(pen_px=pen_px, detail=detail, low=low, high=high,
                                        blur=blur, min_length=min_length, smooth=smooth,
                                        simplify=simplify))
-    lum = as_luminance(lum)
     edges = outline_edges(lum, pen_px=pen_px, detail=detail, low=low, high=high, blur=blur)
     skel = skeletonize(edges)
-    ml = _outline_min_length(lum.shape, o["pen_px"]) if o["min_length"] is None \
+    ml = _outline_min_length(edges.shape, o["pen_px"]) if o["min_length"] is None \
         else o["min_length"]
     prune = max(2.0 * o["pen_px"], 3.0)
     strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"], min_length=ml)
-    return finish(strokes, "outline", ml, o["simplify"], 0.0, lum.shape)
+    return finish(strokes, "outline", ml, o["simplify"], 0.0, edges.shape)
