@@ -1,14 +1,17 @@
 """The calibration model: a parameter vector <-> an arm, and the predicted dots.
 
-Model: the angle a motor really turns to is ``scale * commanded + offset``;
-the pen then sits at the forward kinematics of the true geometry at those
-angles. Internal units: mm for lengths and positions, radians for offsets,
-plain numbers for scales.
+Model: the angle a motor really turns to is ``scale * commanded + offset``
+(the correction :mod:`inkreach.signals.correction` applies); the pen then
+sits at the forward kinematics of the true geometry at those angles.
+Internal units: mm for lengths and positions, radians for offsets, plain
+numbers for scales.
 """
 
 import dataclasses
 
 import numpy as np
+
+from ..signals.correction import angle_correction, from_commanded
 
 __all__ = []
 
@@ -36,17 +39,9 @@ def param_spec(arm):
     return names, groups
 
 
-def existing_calibration(arm):
-    """(offset_rad (2,), scale (2,)) recorded in the arm's hardware, or identity."""
-    cal = (arm.hardware or {}).get("calibration") or {}
-    off = np.deg2rad(np.asarray(cal.get("offset_deg", (0.0, 0.0)), float))
-    sc = np.asarray(cal.get("scale", (1.0, 1.0)), float)
-    return off, sc
-
-
 def to_vector(arm):
     """The arm's parameter vector (its existing calibration included)."""
-    off, sc = existing_calibration(arm)
+    off, sc = angle_correction(arm)
     if arm.kind == "five-bar":
         geo = [*arm.left_motor, *arm.right_motor, arm.left_upper, arm.right_upper,
                arm.left_lower, arm.right_lower, arm.pen_extension]
@@ -68,31 +63,22 @@ def bounds(arm):
     return lo, hi
 
 
-def geometry_arm(arm, v):
-    """The arm with the geometry of ``v`` and no angle correction of its own."""
+def predict(arm, v, q):
+    """Pen positions (N, 2) for commanded angles ``q`` under parameters ``v``."""
+    a = corrected_arm(arm, v)
+    return a.fk(from_commanded(q, a))
+
+
+def corrected_arm(arm, v):
+    """The arm with the geometry of ``v`` and its angle correction in the hardware."""
     v = np.asarray(v, float)
-    hw = {k: val for k, val in (arm.hardware or {}).items() if k != "calibration"}
     if arm.kind == "five-bar":
         kw = dict(left_motor=(float(v[0]), float(v[1])), right_motor=(float(v[2]), float(v[3])),
                   left_upper=float(v[4]), right_upper=float(v[5]), left_lower=float(v[6]),
                   right_lower=float(v[7]), pen_extension=float(v[8]))
     else:
         kw = dict(shoulder=(float(v[0]), float(v[1])), upper=float(v[2]), lower=float(v[3]))
-    return dataclasses.replace(arm, hardware=hw, **kw)
-
-
-def predict(arm, v, q):
-    """Pen positions (N, 2) for commanded angles ``q`` under parameters ``v``."""
-    v = np.asarray(v, float)
-    off, sc = v[-4:-2], v[-2:]
-    return geometry_arm(arm, v).fk(np.asarray(q, float) * sc + off)
-
-
-def corrected_arm(arm, v):
-    """The arm with fitted geometry and the angle correction in its hardware."""
-    v = np.asarray(v, float)
-    a = geometry_arm(arm, v)
-    hw = dict(a.hardware)
+    hw = dict(arm.hardware or {})
     hw["calibration"] = {"offset_deg": [float(x) for x in np.rad2deg(v[-4:-2])],
                          "scale": [float(x) for x in v[-2:]]}
-    return dataclasses.replace(a, hardware=hw)
+    return dataclasses.replace(arm, hardware=hw, **kw)
