@@ -6,7 +6,7 @@ import numpy as np
 from scipy.spatial import cKDTree
 
 from ..errors import InkreachError
-from .subdivide import _point_segment_distance
+from ..place._geometry import _point_segment_distance
 
 __all__ = ["StreamReport", "check_stream"]
 

@@ -3,6 +3,7 @@
 import numpy as np
 
 from ..errors import InkreachError
+from ..place._geometry import _ccw, _inside_convex
 from .check import check_stream, _stream_violations
 from .stream import JointStream
 from .subdivide import _reachable_q, _subdivide_many
@@ -52,16 +53,6 @@ def _posture(arm, q, what):
     return q
 
 
-def _inside_convex(region, p):
-    """True where points ``p`` (N, 2) lie in the convex polygon ``region``."""
-    R = np.asarray(region, dtype=float)
-    e = np.roll(R, -1, axis=0) - R
-    c = e[None, :, 0] * (p[:, None, 1] - R[None, :, 1]) - \
-        e[None, :, 1] * (p[:, None, 0] - R[None, :, 0])
-    tol = 1e-9 * max(1.0, float(np.abs(R).max()))
-    return np.all(c >= -tol, axis=1) | np.all(c <= tol, axis=1)
-
-
 def _joint_moves_ok(arm, qa, qb):
     """For each pen-up move qa[i] -> qb[i], True if the joint-space line is usable."""
     n = len(qa)
@@ -90,11 +81,16 @@ def _line_ok(arm, pa, pb):
 def _cartesian_moves(arm, qa, qb, region, chord_tol):
     """Straight pen-up moves for the travels whose joint-space line is unsafe."""
     pa, pb = arm.fk(qa), arm.fk(qb)
+    if region is not None:
+        region = _ccw(region)
+        # Rounding slack on the edge cross products, as a distance (mm).
+        edge = np.hypot(*(np.roll(region, -1, axis=0) - region).T).max()
+        tol = 1e-9 * max(1.0, float(np.abs(region).max())) / max(float(edge), 1e-300)
     for i in range(len(qa)):
         ends = np.stack([pa[i], pb[i]])
         back = arm.ik(ends)
         same = np.all(np.abs(back - np.stack([qa[i], qb[i]])) <= 1e-6)
-        inside = region is not None and bool(np.all(_inside_convex(region, ends)))
+        inside = region is not None and bool(np.all(_inside_convex(region, ends, tol)))
         if not (same and (inside or _line_ok(arm, pa[i], pb[i]))):
             raise InkreachError(
                 f"the pen-up move from ({pa[i, 0]:.1f}, {pa[i, 1]:.1f}) to ({pb[i, 0]:.1f}, "

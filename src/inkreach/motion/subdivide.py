@@ -3,23 +3,13 @@
 import numpy as np
 
 from ..errors import InkreachError
+from ..place._geometry import _point_segment_distance
 
 __all__ = ["subdivide"]
 
 _PROBES = np.array([0.25, 0.5, 0.75])
 _MAX_ROUNDS = 40
 _MIN_LENGTH = 1e-6
-
-
-def _point_segment_distance(p, a, b):
-    """Distance from points ``p`` to segments ``a -> b``, all (..., 2)."""
-    ab = b - a
-    L2 = np.einsum("...i,...i->...", ab, ab)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        u = np.where(L2 > 0, np.einsum("...i,...i->...", p - a, ab) / L2, 0.0)
-    u = np.clip(u, 0.0, 1.0)
-    d = p - (a + u[..., None] * ab)
-    return np.hypot(d[..., 0], d[..., 1])
 
 
 def _chord_deviation(arm, pa, pb, qa, qb):

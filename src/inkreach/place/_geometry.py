@@ -83,7 +83,7 @@ def _inside_convex(v, points, tol):
     if len(v) == 1:
         return np.hypot(*(p - v[0]).T) <= tol
     if len(v) == 2:
-        return _segment_distance(p, v[0], v[1]) <= tol
+        return _point_segment_distance(p, v[0], v[1]) <= tol
     e = np.roll(v, -1, axis=0) - v
     ok = np.ones(len(p), dtype=bool)
     for (vx, vy), (ex, ey) in zip(v, e):                 # one pass per hull edge
@@ -91,11 +91,15 @@ def _inside_convex(v, points, tol):
     return ok
 
 
-def _segment_distance(p, a, b):
+def _point_segment_distance(p, a, b):
+    """Distance from points ``p`` to segments ``a -> b``, all broadcasting (..., 2)."""
     ab = b - a
-    L2 = float(ab @ ab)
-    t = np.clip(((p - a) @ ab) / L2, 0.0, 1.0) if L2 > 0 else np.zeros(len(p))
-    return np.hypot(*(p - (a + t[:, None] * ab)).T)
+    L2 = np.einsum("...i,...i->...", ab, ab)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        u = np.where(L2 > 0, np.einsum("...i,...i->...", p - a, ab) / L2, 0.0)
+    u = np.clip(u, 0.0, 1.0)
+    d = p - (a + u[..., None] * ab)
+    return np.hypot(d[..., 0], d[..., 1])
 
 
 def _along(a, b, spacing):
