@@ -9,8 +9,9 @@ from inkreach.arms import default_arm, largest_rectangle, load_arm, workspace_ma
 from inkreach.export import (arm_map_png, order_ramp, pen_down_paths, png_bytes, preview_png,
                              preview_svg, simulated_png)
 from inkreach.export._colour import oklab_to_srgb, srgb_to_oklab
-from inkreach.motion import JointStream
 from inkreach.signals import StepperConfig, quantised_angles, stepper_steps
+
+from _streams import line_stream
 
 SVG = "{http://www.w3.org/2000/svg}"
 
@@ -84,11 +85,8 @@ def test_preview_png_opens_with_pillow_and_shows_the_strokes(arm, wmap):
 
 
 def test_preview_png_draws_pen_up_rows_of_a_stream(arm, wmap):
-    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], 30)
-    q = arm.ik(xy)
-    pen = (np.arange(30) > 10).astype(np.int8)
-    s = JointStream(t=np.arange(30) * 0.01, q=q, pen=pen, xy=arm.fk(q), period=0.01)
-    img = preview_png([xy[11:]], arm=arm, wmap=wmap, stream=s, size=300)
+    s = line_stream(arm, 30, pen=np.arange(30) > 10)
+    img = preview_png([s.xy[11:]], arm=arm, wmap=wmap, stream=s, size=300)
     assert img.size[0] == 300 or img.size[1] == 300
 
 
@@ -132,11 +130,7 @@ def test_simulated_png_puts_positive_y_up():
 
 def test_simulated_png_from_quantised_stream_rows_joins_pen_down_runs():
     arm = default_arm()
-    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], 60)
-    q = arm.ik(xy)
-    pen = np.ones(60, np.int8)
-    pen[20:30] = 0
-    s = JointStream(t=np.arange(60) * 0.01, q=q, pen=pen, xy=arm.fk(q), period=0.01)
+    s = line_stream(arm, 60, pen=(np.arange(60) < 20) | (np.arange(60) >= 30))
     reached = arm.fk(quantised_angles(s, stepper_steps(s, StepperConfig(microsteps=1))))
     assert len(pen_down_paths(reached, s.pen)) == 2
     img = simulated_png(reached, s.pen, arm.pen.width_mm, px_per_mm=4)

@@ -15,16 +15,12 @@ from inkreach.motion import JointStream
 from inkreach.signals import (servo_calibration_from_arm, servo_pulses, stepper_steps,
                               StepperConfig)
 
+from _streams import line_stream
+
 
 def _line_stream(n=50, arm=None):
     """A short line on the default arm, built by hand from its IK; pen up for 5 rows."""
-    arm = default_arm() if arm is None else arm
-    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], n)
-    q = arm.ik(xy)
-    pen = np.ones(n, np.int8)
-    pen[:5] = 0
-    return JointStream(t=np.arange(n) * 0.01, q=q, pen=pen, xy=arm.fk(q), period=0.01,
-                       stroke=np.where(pen == 1, 0, -1))
+    return line_stream(default_arm() if arm is None else arm, n, pen=np.arange(n) >= 5)
 
 
 STATS = {"strokes": 2, "pen_lifts": 1, "pen_down_mm": 71.5, "pen_up_mm": 12.25,

@@ -3,8 +3,9 @@ import pytest
 
 from inkreach.arms import arm_to_toml, default_arm, load_arm, parse_arm
 from inkreach.errors import InkreachError
-from inkreach.motion import JointStream
 from inkreach.signals import servo_calibration_from_arm, make_signals, quantised_angles
+
+from _streams import line_stream
 
 
 def _bare_default():
@@ -14,11 +15,10 @@ def _bare_default():
 
 
 def _line_stream(arm, n=30):
-    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], n) if arm.kind == "five-bar" else \
-        np.linspace([-60.0, 120.0], [40.0, 160.0], n)
-    q = arm.ik(xy)
-    return JointStream(t=np.arange(n) * 0.01, q=q, pen=np.ones(n, np.int8), xy=arm.fk(q),
-                       period=0.01)
+    """A short pen-down line inside the arm's reach, built by hand from its IK."""
+    if arm.kind == "five-bar":
+        return line_stream(arm, n)
+    return line_stream(arm, n, (-60.0, 120.0), (40.0, 160.0))
 
 
 def test_make_signals_follows_the_arm_file_tables():

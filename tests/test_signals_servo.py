@@ -5,9 +5,10 @@ from hypothesis import strategies as st
 
 from inkreach.arms import default_arm, parse_arm, arm_to_toml
 from inkreach.errors import InkreachError
-from inkreach.motion import JointStream
 from inkreach.signals import (ServoCalibration, quantised_angles, servo_calibration_from_arm,
                               servo_pulses)
+
+from _streams import line_stream, stream_of_deg
 
 
 def _bare_default():
@@ -17,21 +18,12 @@ def _bare_default():
 
 
 def _line_stream(n=40, arm=None):
-    """A short pen-down line on the default arm, built by hand from its IK."""
-    arm = _bare_default() if arm is None else arm
-    xy = np.linspace([-30.0, 150.0], [30.0, 190.0], n)
-    q = arm.ik(xy)
-    pen = np.ones(n, np.int8)
-    pen[:3] = 0
-    return JointStream(t=np.arange(n) * 0.01, q=q, pen=pen, xy=arm.fk(q), period=0.01,
-                       stroke=np.where(pen == 1, 0, -1))
+    """A short line on the default arm, built by hand from its IK; pen up for 3 rows."""
+    return line_stream(_bare_default() if arm is None else arm, n, pen=np.arange(n) >= 3)
 
 
 def _stream_of_deg(deg):
-    deg = np.asarray(deg, float)
-    n = len(deg)
-    return JointStream(t=np.arange(n) * 0.02, q=np.deg2rad(deg), pen=np.zeros(n, np.int8),
-                       xy=np.zeros((n, 2)), period=0.02)
+    return stream_of_deg(deg, period=0.02, pen=0)
 
 
 @st.composite

@@ -8,24 +8,19 @@ from hypothesis import strategies as st
 from inkreach.arms import (arm_to_toml, default_arm, example_arms, largest_rectangle, load_arm,
                            parse_arm, workspace_map)
 from inkreach.errors import InkreachError
-from inkreach.motion import JointStream
 from inkreach.signals import (StepperConfig, quantised_angles, stepper_config_from_arm,
                               stepper_steps, worst_pen_error_mm)
 
+from _streams import line_stream, stream_of_deg
 
-def _line_stream(arm, n=60, a=(-30.0, 150.0), b=(30.0, 190.0), period=0.01):
-    """A short line built by hand from the arm's IK."""
-    xy = np.linspace(a, b, n)
-    q = arm.ik(xy)
-    return JointStream(t=np.arange(n) * period, q=q, pen=np.ones(n, np.int8), xy=arm.fk(q),
-                       period=period, stroke=np.zeros(n, int))
+
+def _line_stream(arm, n=60, a=(-30.0, 150.0), b=(30.0, 190.0)):
+    """A short pen-down line built by hand from the arm's IK."""
+    return line_stream(arm, n, a, b)
 
 
 def _stream_of_deg(deg, period=0.01):
-    deg = np.asarray(deg, float)
-    n = len(deg)
-    return JointStream(t=np.arange(n) * period, q=np.deg2rad(deg), pen=np.ones(n, np.int8),
-                       xy=np.zeros((n, 2)), period=period)
+    return stream_of_deg(deg, period=period, pen=1)
 
 
 def _exact_steps(angle_deg, zero_deg, spr, ms, gear, direction):
