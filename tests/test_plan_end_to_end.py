@@ -137,3 +137,13 @@ def test_save_writes_every_file(tmp_path):
     for name, path in written.items():
         assert (tmp_path / "out" / name).is_file()
     assert not [f for f in (tmp_path / "out").iterdir() if f.name.startswith(".")]
+
+
+def test_progress_reports_every_stage_in_order_then_done():
+    from inkreach.demo import emblem
+    from inkreach.plan import STAGES
+    seen = []
+    inkreach.plan(emblem(160), style="centerline", progress=lambda *a: seen.append(a))
+    assert [s for s, _, _ in seen] == list(STAGES) + ["done"]
+    assert [d for _, d, _ in seen] == list(range(len(STAGES) + 1))
+    assert {t for _, _, t in seen} == {len(STAGES)}

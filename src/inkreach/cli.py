@@ -59,8 +59,7 @@ class _Parser(argparse.ArgumentParser):
     """An argument parser whose errors are one line and exit status 2."""
 
     def error(self, message):
-        self.exit(2, f"inkreach: error: {message}; see 'inkreach {self.prog.split()[-1]} --help'\n"
-                  if " " in self.prog else f"inkreach: error: {message}; see 'inkreach --help'\n")
+        self.exit(2, f"inkreach: error: {message}; see '{self.prog} --help'\n")
 
 
 def _add_plan_options(p):
@@ -364,14 +363,16 @@ class _Progress:
     def __enter__(self):
         if self.enabled:
             from tqdm import tqdm
-            self.bar = tqdm(total=9, desc="planning", unit="stage", file=sys.stderr,
+
+            from .plan import STAGES
+            self.bar = tqdm(total=len(STAGES), desc="planning", unit="stage", file=sys.stderr,
                             leave=False, bar_format="{desc:<18} {bar} {n_fmt}/{total_fmt}")
         return self
 
     def __call__(self, stage, done, total):
         if self.bar is not None:
             self.bar.set_description(stage)
-            self.bar.update(1)
+            self.bar.update(done - self.bar.n)
 
     def __exit__(self, *exc):
         if self.bar is not None:

@@ -8,7 +8,10 @@ import numpy as np
 from .arms import Arm, arm_to_toml, default_arm, load_arm, parse_arm, workspace_map
 from .errors import InkreachError
 
-__all__ = ["Plan", "plan", "PLACE_OPTIONS", "MOTION_OPTIONS"]
+__all__ = ["Plan", "plan", "PLACE_OPTIONS", "MOTION_OPTIONS", "STAGES"]
+
+#: The stages :func:`plan` reports to its ``progress`` callback, in order.
+STAGES = ("arm", "load", "trace", "merge", "place", "route", "motion", "check", "fidelity")
 
 #: Options of the placement stage, with their defaults.
 PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
@@ -173,7 +176,9 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         ``"outline"``, ``"centerline"``, ``"hatch"``, ``"stipple"`` or
         ``"contour"``.
     progress : callable, optional
-        Called as ``progress(stage, done, total)`` as the work goes on.
+        Called as ``progress(stage, done, total)`` as each stage of
+        :data:`STAGES` starts (``done`` stages finished out of ``total``),
+        and as ``progress("done", total, total)`` at the end.
     **options
         Style options (see :func:`inkreach.trace.style_options`), placement
         options (``paper=(x0, y0, w, h)``, ``margin``, ``size``, ``prefer``,
@@ -199,7 +204,10 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     from .signals import make_signals
     from .trace import load_image, trace
 
-    step = progress or (lambda *a: None)
+    def step(stage):
+        if progress is not None:
+            progress(stage, STAGES.index(stage), len(STAGES))
+
     options = dict(options)
     if "pen_px" in options:
         raise InkreachError("option pen_px is set from the arm's pen width; change [pen] "
@@ -213,25 +221,25 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     place_opts["size"] = _positive("size", place_opts["size"])
     max_side = int(_positive("max_side", own["max_side"], allow_none=False))
 
-    step("arm", 0, 1)
+    step("arm")
     arm = resolve_arm(arm)
     wmap = workspace_map(arm)
     if wmap.usable.sum() < 16:
         raise InkreachError("the arm's usable region is too small for any drawing; "
                             "widen the joint limits or lower min_conditioning")
-    step("load", 0, 1)
+    step("load")
     pic = load_image(image, max_side=max_side,
                      max_pixels=int(_positive("max_pixels", own["max_pixels"], allow_none=False)))
     W, H = pic.original_size
     s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
                                                        ("paper", "margin", "size")})
     pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
-    step("trace", 0, 1)
+    step("trace")
     strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
     strokes_o = [pic.to_original(s) for s in strokes_w]
-    step("merge", 0, 1)
+    step("merge")
     merged = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
-    step("place", 0, 1)
+    step("place")
     placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H), **place_opts)
     strokes_mm = placement.apply_all(merged)
     start_q = arm.home() if own["start"] is None else np.deg2rad(np.asarray(own["start"], float))
@@ -240,19 +248,19 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         # convex and usable, so its centroid is too)
         start_q = arm.ik(placement.hull.mean(0))
     start_xy = arm.fk(start_q)
-    step("route", 0, 1)
+    step("route")
     route = order_strokes(strokes_mm, start=start_xy)
     if own["joint_order"]:
         # the joint-space pass refines an order that is already good: a small
         # budget gets nearly all of its gain
         budget = min(1.0, 0.05 + 20e-6 * len(route.strokes))
         route = reorder_joint_space(route, arm, start_q=start_q, time_budget=budget)
-    step("motion", 0, 1)
+    step("motion")
     # a flat drawing (one straight line) has a two-point hull: no region
     region = placement.hull if len(placement.hull) >= 3 else None
     stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
                          **motion_opts)
-    step("check", 0, 1)
+    step("check")
     report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
     signals = make_signals(stream, arm, kind=own["signals"])
     reached = _reached_xy(stream, arm, signals)
@@ -270,10 +278,11 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
              style=style, options=used, signals=signals, report=report, workspace=wmap,
              image_size=(int(W), int(H)), reached_xy=reached)
     if own["fidelity"]:
-        step("fidelity", 0, 1)
+        step("fidelity")
         from .fidelity import plan_fidelity
         stats["fidelity"] = plan_fidelity(p, image)
-    step("done", 1, 1)
+    if progress is not None:
+        progress("done", len(STAGES), len(STAGES))
     return p
 
 
