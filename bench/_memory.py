@@ -41,9 +41,9 @@ def main(path, style):
     from _stages import end_to_end
 
     base = _rss_mb()
-    seconds, p, note = end_to_end(path, style)
+    seconds, p, _ = end_to_end(path, style)
     print(json.dumps({"baseline_mb": base, "peak_mb": _rss_mb(), "seconds": seconds,
-                      "rows": len(p.stream), "note": note}))
+                      "rows": len(p.stream)}))
 
 
 if __name__ == "__main__":

@@ -1,9 +1,8 @@
 """The planner's stages one by one, timed, for the benchmark.
 
 `run_stages` follows the same steps as :func:`inkreach.plan.plan` (load,
-trace, merge, place, route, motion, check, signals, export) so each can be
-timed on its own; `end_to_end` times the real planner and falls back to
-these stages when the planner cannot run yet.
+trace, merge, place, route, motion, check) so each can be timed on its own
+and its outputs kept; `end_to_end` times the real planner and its export.
 """
 
 import time
@@ -34,12 +33,12 @@ def reference_workload(gray):
     return T() - t
 
 
-def run_stages(image, style, arm=None, wmap=None, max_side=1200, export=True):
-    """Run every stage once; returns (seconds by stage, outputs)."""
-    from inkreach import route as route_mod
+def run_stages(image, style, arm=None, wmap=None, max_side=1200):
+    """Run every stage once, as the planner does; returns (seconds by stage, outputs)."""
     from inkreach.arms import default_arm, workspace_map
     from inkreach.motion import check_stream, plan_motion
     from inkreach.place import place_drawing, provisional_scale
+    from inkreach.route import merge_strokes, order_strokes, reorder_joint_space
     from inkreach.trace import load_image, trace
 
     arm = default_arm() if arm is None else arm
@@ -58,11 +57,9 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200, export=True):
     strokes_w = trace(pic.luminance, style, pen_px=pen_px)
     times["trace"] = T() - t
     strokes_o = [pic.to_original(s) for s in strokes_w]
-    merge = getattr(route_mod, "merge_strokes", None)
-    if merge is not None:
-        t = T()
-        strokes_o = merge(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
-        times["merge"] = T() - t
+    t = T()
+    strokes_o = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
+    times["merge"] = T() - t
     t = T()
     placement = place_drawing(strokes_o, arm, wmap=wmap, image_size=(W, H))
     strokes_mm = placement.apply_all(strokes_o)
@@ -72,13 +69,14 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200, export=True):
         q0 = arm.ik(placement.hull.mean(0))
     start = arm.fk(q0)
     t = T()
-    r = route_mod.order_strokes(strokes_mm, start=start)
-    reorder = getattr(route_mod, "reorder_joint_space", None)
-    if reorder is not None:
-        r = reorder(r, arm, start_q=q0)
+    r = order_strokes(strokes_mm, start=start)
+    # the planner's budget for the joint-space pass (inkreach.plan.plan)
+    r = reorder_joint_space(r, arm, start_q=q0,
+                            time_budget=min(1.0, 0.05 + 20e-6 * len(r.strokes)))
     times["route"] = T() - t
+    region = placement.hull if len(placement.hull) >= 3 else None
     t = T()
-    stream = plan_motion(r.strokes, arm, start=q0, end=q0, region=placement.hull)
+    stream = plan_motion(r.strokes, arm, start=q0, end=q0, region=region)
     times["motion"] = T() - t
     t = T()
     report = check_stream(stream, arm, strokes=r.strokes)
@@ -86,57 +84,25 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200, export=True):
     out = {"picture": pic, "strokes_px": strokes_w, "strokes_mm": strokes_mm, "route": r,
            "stream": stream, "report": report, "placement": placement, "arm": arm,
            "wmap": wmap, "start": start}
-    if export:
-        t = T()
-        p = _as_plan(out, style, (W, H))
-        files = p.files()
-        times["export"] = T() - t
-        out["plan"] = p
-        out["files"] = files
     return times, out
 
 
-def _as_plan(out, style, size):
-    """A Plan value from the stage outputs (what the planner would return)."""
-    import importlib
-    plan_mod = importlib.import_module("inkreach.plan")
-    from inkreach.route import travel_stats
-    from inkreach.signals import make_signals
-
-    stream, arm, r = out["stream"], out["arm"], out["route"]
-    signals = make_signals(stream, arm, kind="auto")
-    travel = travel_stats(r.strokes, start=out["start"])
-    stats = plan_mod._stats(travel, stream, out["report"], out["placement"], arm, style,
-                            r.strokes)
-    return plan_mod.Plan(strokes=r.strokes, stream=stream, stats=stats,
-                         placement=out["placement"], arm=arm, style=style, options={},
-                         signals=signals, report=out["report"], workspace=out["wmap"],
-                         image_size=tuple(int(v) for v in size))
-
-
 def end_to_end(image, style, arm=None):
-    """Plan and export in memory with the real planner; returns (seconds, plan, note).
+    """Plan and export in memory with the real planner.
 
-    When the planner cannot run (a stage not there yet), the stages are run
-    one after the other instead and ``note`` says why.
+    Returns
+    -------
+    seconds : float
+        Planning and export together.
+    plan : Plan
+    export_seconds : float
+        The export (:meth:`Plan.files`) alone.
     """
     from inkreach.plan import plan
 
     t = T()
-    try:
-        p = plan(image, arm=arm, style=style)
-    except ImportError as exc:
-        _, out = run_stages(image, style, arm=arm)
-        return T() - t, out["plan"], f"planner not available ({exc}); stages run in turn"
+    p = plan(image, arm=arm, style=style)
+    t_export = T()
     p.files()
-    return T() - t, p, ""
-
-
-def median_time(fn, runs):
-    """Median seconds of ``runs`` calls of ``fn`` (which returns seconds or None)."""
-    ts = []
-    for _ in range(runs):
-        t = T()
-        v = fn()
-        ts.append(v if isinstance(v, float) else T() - t)
-    return float(np.median(ts))
+    done = T()
+    return done - t, p, done - t_export

@@ -127,24 +127,24 @@ def machine_facts():
 def section_speed(cfg, pics, results):
     """Seconds per stage (median of runs) and the ratio to the reference workload."""
     from inkreach.arms import default_arm, workspace_map
+    from inkreach.trace import load_image, trace
 
     arm = default_arm()
     wmap = workspace_map(arm)
     lines = []
     header = ["picture", "stage", "median s", "× reference"]
-    rows, notes = [], set()
+    rows = []
     for name, (kind, mp, img) in pics.items():
         ref = float(np.median([reference_workload(img) for _ in range(cfg["runs"])]))
         results.setdefault("reference", {})[name] = ref
         rows.append([name, "**reference** (Canny + skeletonize)", ref, 1.0])
         style = "hatch" if kind == "still" else "outline"
         # trace per style
+        pic = load_image(img)
         for st in STYLES:
             try:
                 ts = []
                 for _ in range(cfg["runs"]):
-                    from inkreach.trace import load_image, trace
-                    pic = load_image(img)
                     t = T()
                     trace(pic.luminance, st, pen_px=2.0)
                     ts.append(T() - t)
@@ -163,15 +163,14 @@ def section_speed(cfg, pics, results):
         except Exception as exc:  # noqa: BLE001
             rows.append([name, f"stages ({style})", _na(exc), "—"])
         try:
-            ts, note = [], ""
+            ts, te = [], []
             for _ in range(cfg["runs"]):
-                s, p, note = end_to_end(img, style)
+                s, _, s_export = end_to_end(img, style)
                 ts.append(s)
-            m = float(np.median(ts))
-            if note:
-                notes.add(note)
-            label = f"**end to end** ({style}, plan + export)" + (" †" if note else "")
-            rows.append([name, label, m, m / ref])
+                te.append(s_export)
+            m, m_export = float(np.median(ts)), float(np.median(te))
+            rows.append([name, f"export ({style})", m_export, m_export / ref])
+            rows.append([name, f"**end to end** ({style}, plan + export)", m, m / ref])
             results.setdefault("e2e", {})[name] = (kind, mp, m, ref)
         except Exception as exc:  # noqa: BLE001
             rows.append([name, f"**end to end** ({style})", _na(exc), "—"])
@@ -179,11 +178,10 @@ def section_speed(cfg, pics, results):
                  "(long side ≤ 1200 px, the planner's default); the other stages run on the "
                  "style that suits the picture (hatch for the still life, outline for the "
                  "photo) with the default arm. End to end is `inkreach.plan.plan` plus "
-                 "building every output file in memory (arm map included). Ratios are to "
+                 "building every output file in memory (arm map included); the export row "
+                 "is that last part alone. Ratios are to "
                  "the reference workload on the same picture in the same run.\n")
     lines.append(_table(header, rows))
-    for note in sorted(notes):
-        lines.append(f"\n† {note}.")
     return "\n".join(lines)
 
 
@@ -244,8 +242,7 @@ def section_growth(cfg, results):
             if st == "stipple" and side > cfg["stipple_max_side"]:
                 continue
             try:
-                times, out = run_stages(img, st, arm=arm, wmap=wmap, max_side=side,
-                                        export=False)
+                times, out = run_stages(img, st, arm=arm, wmap=wmap, max_side=side)
                 px = int(np.prod(out["picture"].shape))
                 n = len(out["route"].strokes)
                 rows_n = len(out["stream"])
@@ -286,7 +283,7 @@ def _stroke_sets(cfg):
     for label, img, st in (("emblem centerline", np.asarray(emblem(800)), "centerline"),
                            ("still life hatch", np.asarray(still_life(960, 720)), "hatch"),
                            ("still life stipple", np.asarray(still_life(960, 720)), "stipple")):
-        _, out = run_stages(img, st, arm=arm, wmap=wmap, export=False)
+        _, out = run_stages(img, st, arm=arm, wmap=wmap)
         sets.append((label, out["strokes_mm"], out["start"]))
     return sets
 
@@ -357,27 +354,14 @@ def section_route(cfg, results):
 def section_kinematics(cfg, results):
     from inkreach.arms import load_arm
 
-    try:
-        from bench_kinematics import throughput
-    except ImportError:
-        throughput = None
+    from bench_kinematics import throughput
+
     rows = []
     for name in ("default", "serial"):
         try:
             arm = load_arm(name)
             n = cfg["ik_points"]
-            if throughput is not None:
-                med, rate = throughput(arm, n=n, repeats=cfg["ik_runs"])
-            else:
-                x0, y0, x1, y1 = arm.reach_box()
-                pts = np.random.default_rng(0).uniform([x0, max(y0, 0.0)], [x1, y1], (n, 2))
-                ts = []
-                for _ in range(cfg["ik_runs"]):
-                    t = T()
-                    arm.conditioning(arm.ik(pts))
-                    ts.append(T() - t)
-                med = float(np.median(ts))
-                rate = n / med
+            med, rate = throughput(arm, n=n, repeats=cfg["ik_runs"])
             rows.append([f"{arm.name} ({arm.kind})", n, med, rate])
             results.setdefault("ik", {})[name] = rate
         except Exception as exc:  # noqa: BLE001
@@ -395,10 +379,10 @@ def section_drawing(cfg, results):
     rows = []
     for st in STYLES:
         try:
-            _, p, note = end_to_end(img, st)
+            _, p, _ = end_to_end(img, st)
             s = p.stats
             try:
-                fid = plan_fidelity(p, img)
+                fid = s["fidelity"]           # the planner scored it already
                 t = T()
                 plan_fidelity(p, img)
                 t_fid = T() - t
