@@ -179,32 +179,18 @@ def _linear_from_array(a):
     """Linear luminance from an sRGB-encoded array, alpha composited on white."""
     if a.ndim == 3 and a.shape[2] == 1:
         a = a[..., 0]
-    if a.dtype == np.uint8 and a.ndim == 3 and a.shape[2] >= 3:
-        return _linear_from_rgb8(a)
     if a.dtype == np.uint8:
-        lin = _LUT8[a]
-        alpha = None
         if a.ndim == 3:
-            if a.shape[2] == 4:
-                alpha = a[..., 3].astype(np.float32) / 255.0
-            lin = luminance_from_linear_rgb(lin[..., :3]) if a.shape[2] >= 3 else lin[..., 0]
-    else:
-        if a.dtype == np.uint16:
-            f = a.astype(np.float32) / 65535.0
-        elif a.dtype == bool:
-            f = a.astype(np.float32)
-        else:
-            f = a.astype(np.float32)
-        alpha = None
-        if f.ndim == 3:
-            if f.shape[2] == 4:
-                alpha = f[..., 3]
-            lin = srgb_to_linear(f[..., :3]) if f.shape[2] >= 3 else srgb_to_linear(f[..., 0])
-            if lin.ndim == 3:
-                lin = luminance_from_linear_rgb(lin)
-        else:
-            lin = srgb_to_linear(f)
-    if alpha is not None:
+            return _linear_from_rgb8(a)
+        return _LUT8[a]
+    f = a.astype(np.float32)
+    if a.dtype == np.uint16:
+        f /= 65535.0
+    if f.ndim == 2:
+        return np.clip(srgb_to_linear(f), 0.0, 1.0)
+    lin = luminance_from_linear_rgb(srgb_to_linear(f[..., :3]))
+    if f.shape[2] == 4:
+        alpha = f[..., 3]
         lin = alpha * lin + (1.0 - alpha)
     return np.clip(lin, 0.0, 1.0).astype(np.float32, copy=False)
 
