@@ -52,15 +52,10 @@ def to_vector(arm):
 
 def bounds(arm):
     """Lower and upper bounds of the parameters (lengths and scales positive)."""
-    names, groups = param_spec(arm)
-    lo = np.full(len(names), -np.inf)
-    hi = np.full(len(names), np.inf)
-    for i, (n, g) in enumerate(zip(names, groups)):
-        if g == "lengths" or g == "scales":
-            lo[i] = 1e-6
-        elif g == "pen_extension":
-            lo[i] = 0.0
-    return lo, hi
+    groups = np.array(param_spec(arm)[1])
+    lo = np.select([np.isin(groups, ("lengths", "scales")), groups == "pen_extension"],
+                   [1e-6, 0.0], -np.inf)
+    return lo, np.full(len(groups), np.inf)
 
 
 def predict(arm, v, q):

@@ -242,7 +242,7 @@ def fit_arm(arm, q, xy, *, fit=("lengths", "motors", "pen_extension", "offsets",
         k = int(np.argmax(ratio)) if len(ratio) else 0
         if len(ratio) and ratio[k] > 1.0 and len(idx) > 1:
             warnings.append(f"{_label(names[idx[k]])} is poorly determined by these dots "
-                            f"(standard error {_fmt_se(names[idx[k]], se[k])}); "
+                            f"(standard error {_fmt_val(names[idx[k]], se[k])}); "
                             "held at the starting value")
             free[idx[k]] = False
             continue
@@ -258,7 +258,7 @@ def fit_arm(arm, q, xy, *, fit=("lengths", "motors", "pen_extension", "offsets",
                         "dot numbers and the measurements, or the sheet's print scale")
 
     params = {_label(nm): _display(nm, val) for nm, val in zip(names, v)}
-    stderr = {_label(names[i]): _display_se(names[i], s) for i, s in zip(idx, se)}
+    stderr = {_label(names[i]): _display(names[i], s) for i, s in zip(idx, se)}
     fixed = tuple(_label(nm) for nm, f in zip(names, free) if not f)
     out_arm = _model.corrected_arm(arm, v)
     cal = out_arm.hardware["calibration"]
@@ -374,15 +374,9 @@ def _display(name, value):
     return float(np.rad2deg(value)) if name.startswith("offset") else float(value)
 
 
-_display_se = _display
-
-
 def _fmt_val(name, value):
     if name.startswith("offset"):
         return f"{np.rad2deg(value):.3f} deg"
     if name.startswith("scale"):
         return f"{value:.5f}"
     return f"{value:.3f} mm"
-
-
-_fmt_se = _fmt_val
