@@ -77,6 +77,19 @@ def bounds(groups, margin=0.06, minimum=10.0):
     return (c[0] - half[0], c[0] + half[0], c[1] - half[1], c[1] + half[1])
 
 
+def overlap(a, b):
+    """Area shared by two boxes (x0, y0, x1, y1).
+
+    Examples
+    --------
+    >>> overlap((0, 0, 2, 2), (1, 1, 5, 5)), overlap((0, 0, 1, 1), (2, 2, 3, 3))
+    (1, 0)
+    """
+    w = min(a[2], b[2]) - max(a[0], b[0])
+    h = min(a[3], b[3]) - max(a[1], b[1])
+    return max(w, 0) * max(h, 0)
+
+
 def travel_moves(strokes, start=None):
     """Straight pen-up moves between strokes (and from ``start``), as (K, 2, 2)."""
     ends = [s[-1] for s in strokes[:-1]]

@@ -13,7 +13,7 @@ from PIL import Image, ImageDraw, ImageFont
 from ..errors import InkreachError
 from ._colour import conditioning_ramp, order_ramp
 from ._scene import (as_strokes, bounds, figure_rows, figure_title, linkage, nice_length,
-                     outlines, posture, travel_moves)
+                     outlines, overlap, posture, travel_moves)
 
 __all__ = ["preview_png", "arm_map_png"]
 
@@ -125,13 +125,6 @@ def _soft_box(img, box, radius, fill=(255, 255, 255), opacity=0.9, outline=(214,
     img.paste(region, (x0, y0))
 
 
-def _overlap(a, b):
-    """Area shared by two pixel boxes (x0, y0, x1, y1)."""
-    w = min(a[2], b[2]) - max(a[0], b[0])
-    h = min(a[3], b[3]) - max(a[1], b[1])
-    return max(w, 0) * max(h, 0)
-
-
 def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
     """Heading, label/value rows and (optionally) the drawing-order ramp, in a top corner.
 
@@ -149,7 +142,7 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
     x, y = 10, 10
     if avoid is not None:
         right = img.width - 10 - w
-        if _overlap((right, y, right + w, y + h), avoid) < _overlap((x, y, x + w, y + h), avoid):
+        if overlap((right, y, right + w, y + h), avoid) < overlap((x, y, x + w, y + h), avoid):
             x = right
     _soft_box(img, (x, y, x + w, y + h), radius=pad)
     draw.text((x + pad, y + pad), title, fill=_INK, font=font)

@@ -6,7 +6,7 @@ import numpy as np
 
 from ._colour import hex_colour, order_ramp
 from ._scene import (as_strokes, bounds, figure_lines, figure_title, linkage, outlines,
-                     posture, travel_moves)
+                     overlap, posture, travel_moves)
 from .safety import SAFETY_TEXT
 
 __all__ = ["preview_svg"]
@@ -144,12 +144,6 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
     return "\n".join(out) + "\n"
 
 
-def _overlap(a, b):
-    w = min(a[2], b[2]) - max(a[0], b[0])
-    h = min(a[3], b[3]) - max(a[1], b[1])
-    return max(w, 0.0) * max(h, 0.0)
-
-
 def _panel(title, lines, page, size, order_bar=False, avoid=None):
     """SVG elements of the figures panel in a top corner (page coordinates).
 
@@ -166,7 +160,7 @@ def _panel(title, lines, page, size, order_bar=False, avoid=None):
     x, y = left + fs * 0.6, top + fs * 0.6
     if avoid is not None:
         xr = right - fs * 0.6 - width
-        if _overlap((xr, y, xr + width, y + height), avoid) < _overlap(
+        if overlap((xr, y, xr + width, y + height), avoid) < overlap(
                 (x, y, x + width, y + height), avoid):
             x = xr
     out = [f'<g class="figures" font-family="sans-serif" font-size="{_fmt(fs)}">',
