@@ -36,9 +36,9 @@ def fk_serial(arm_geo, t1, t2):
 
 
 def read_joints(text):
-    rows = list(csv.reader(io.StringIO(text)))
-    assert rows[0] == ["t_s", "theta1_deg", "theta2_deg", "pen", "x_mm", "y_mm"]
-    return np.array([[float(v) for v in r] for r in rows[1:]])
+    header = next(csv.reader(io.StringIO(text)))
+    assert header == ["t_s", "theta1_deg", "theta2_deg", "pen", "x_mm", "y_mm"]
+    return np.loadtxt(io.StringIO(text), delimiter=",", skiprows=1, ndmin=2)
 
 
 def check_joints(text, arm_table, chord_tol=0.05):
