@@ -6,7 +6,7 @@ from ..errors import InkreachError
 from ..place._geometry import _ccw, _inside_convex
 from .check import check_stream, _stream_violations
 from .stream import JointStream
-from .subdivide import _reachable_q, _subdivide_many
+from .subdivide import _subdivide_many
 from .timing import _forward_backward, _position_in_segment, _segment_profiles
 
 __all__ = ["plan_motion"]
@@ -74,8 +74,7 @@ def _joint_moves_ok(arm, qa, qb):
 def _line_ok(arm, pa, pb):
     n = max(2, int(np.ceil(np.hypot(*(pb - pa)) / _LINE_STEP)) + 1)
     u = np.linspace(0.0, 1.0, n)[:, None]
-    _, ok = _reachable_q(arm, pa + u * (pb - pa))
-    return bool(np.all(ok))
+    return bool(np.all(arm.reachable(pa + u * (pb - pa))))
 
 
 def _cartesian_moves(arm, qa, qb, region, chord_tol):
@@ -382,7 +381,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
 
     if n:
         allp = np.concatenate(S)
-        _, ok = _reachable_q(arm, allp)
+        ok = arm.reachable(allp)
         if not np.all(ok):
             k = int(np.argmin(ok))
             sid = np.repeat(np.arange(n), [len(s) for s in S])

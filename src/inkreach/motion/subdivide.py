@@ -41,17 +41,6 @@ def _chord_deviation(arm, pa, pb, qa, qb):
     return d.max(axis=1)
 
 
-def _reachable_q(arm, p, tol=1e-6):
-    """Inverse kinematics of ``p`` and whether each point is safely usable."""
-    q = arm.ik(p)
-    with np.errstate(invalid="ignore"):
-        ok = np.all(np.isfinite(q), axis=1)
-        ok &= np.hypot(*(arm.fk(q) - p).T) <= tol
-        ok &= arm.within_limits(q)
-        ok &= arm.conditioning(q) >= arm.limits.min_conditioning
-    return q, ok
-
-
 def _subdivide_many(points, active, arm, chord_tol, what="stroke"):
     """Subdivide the active segments of a point sequence (see :func:`subdivide`).
 
@@ -92,14 +81,14 @@ def _subdivide_many(points, active, arm, chord_tol, what="stroke"):
                 f"within {chord_tol:g} mm (too close to a singularity); move the drawing "
                 "into the well-conditioned region")
         mid = 0.5 * (P[bad] + P[bad + 1])
-        qm, ok = _reachable_q(arm, mid)
+        ok = arm.reachable(mid)
         if not np.all(ok):
             k = int(np.argmin(ok))
             raise InkreachError(
                 f"the {what} passes through ({mid[k, 0]:.2f}, {mid[k, 1]:.2f}) mm, which the "
                 "arm cannot reach safely; place the drawing inside the usable region")
         P = np.insert(P, bad + 1, mid, axis=0)
-        Q = np.insert(Q, bad + 1, qm, axis=0)
+        Q = np.insert(Q, bad + 1, arm.ik(mid), axis=0)
         origin = np.insert(origin, bad + 1, -1)
         # Both halves of each failed segment are pending; the rest have passed.
         pending = np.insert(pending, bad + 1, False)
@@ -168,7 +157,7 @@ def subdivide(polyline, arm, chord_tol=0.05):
     keep = np.ones(len(P), bool)
     keep[1:] = np.any(np.diff(P, axis=0) != 0, axis=1)
     P = P[keep]
-    _, ok = _reachable_q(arm, P)
+    ok = arm.reachable(P)
     if not np.all(ok):
         k = int(np.argmin(ok))
         raise InkreachError(f"point ({P[k, 0]:.2f}, {P[k, 1]:.2f}) mm cannot be reached "
