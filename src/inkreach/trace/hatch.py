@@ -86,7 +86,7 @@ def _layer_fractions(tone, layers, pen):
     """
     k = np.ones(tone.shape, dtype=np.uint8)
     for j in range(2, layers + 1):
-        k[1.0 - (1.0 - tone) ** (1.0 / (j - 1)) > _MAX_FRACTION] = j
+        k[layer_fraction(tone, j - 1) > _MAX_FRACTION] = j
     k = _clean(k, pen)
     f = np.clip(layer_fraction(np.clip(tone, 0.0, 1.0), k), 0.0, 1.0)
     return [np.where(k > j, f, 0.0) for j in range(layers)]
