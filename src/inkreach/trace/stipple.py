@@ -56,7 +56,6 @@ def default_dot_count(density, pen_px):
 
 def _lloyd(density, points, iterations):
     """Weighted Lloyd relaxation of ``points`` (x, y) over a density grid."""
-    h, w = density.shape
     ys, xs = np.nonzero(density > 0)
     wts = density[ys, xs].astype(np.float64)
     grid = np.stack([xs, ys], axis=1).astype(np.float64)
