@@ -159,15 +159,15 @@ def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=None, bounds=
     canvas = np.full((H, W), 255, np.uint8)
     thick = max(1, int(round(w_mm * px_per_mm)))
     scale = float(px_per_mm) * (1 << _SHIFT)
-    polys = []
-    for s in segs:
-        if len(s) == 1:
-            s = np.repeat(s, 2, axis=0)  # a dot: a zero-length line with round ends
-        px = np.empty_like(s)
-        px[:, 0] = (s[:, 0] - x0) * scale
-        px[:, 1] = (y1 - s[:, 1]) * scale  # +y up on the page
-        polys.append(np.rint(px).astype(np.int32).reshape(-1, 1, 2))
-    if polys:
+    if segs:
+        # a dot: a zero-length line with round ends
+        segs = [np.repeat(s, 2, axis=0) if len(s) == 1 else s for s in segs]
+        pts = np.concatenate(segs)
+        px = np.empty_like(pts)
+        px[:, 0] = (pts[:, 0] - x0) * scale
+        px[:, 1] = (y1 - pts[:, 1]) * scale  # +y up on the page
+        fixed = np.rint(px).astype(np.int32).reshape(-1, 1, 2)
+        polys = np.split(fixed, np.cumsum([len(s) for s in segs])[:-1])
         cv2.polylines(canvas, polys, False, 0, thickness=thick, lineType=cv2.LINE_AA,
                       shift=_SHIFT)
     return Image.fromarray(canvas)
