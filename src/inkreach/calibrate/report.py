@@ -1,8 +1,7 @@
 """What a calibration fit says, as an arm file and as plain text."""
 
-import dataclasses
-
 from ..arms import arm_to_toml
+from . import _model
 
 __all__ = ["corrected_arm_toml", "calibration_report"]
 
@@ -30,21 +29,15 @@ def corrected_arm_toml(fit):
 
 
 def _rounded(arm, mm=6, deg=6, scale=8):
-    """The arm with its fitted numbers rounded far below measuring precision."""
-    if arm.kind == "five-bar":
-        kw = {k: round(float(getattr(arm, k)), mm) + 0.0 for k in
-              ("left_upper", "right_upper", "left_lower", "right_lower", "pen_extension")}
-        kw["left_motor"] = tuple(round(float(v), mm) + 0.0 for v in arm.left_motor)
-        kw["right_motor"] = tuple(round(float(v), mm) + 0.0 for v in arm.right_motor)
-    else:
-        kw = {k: round(float(getattr(arm, k)), mm) + 0.0 for k in ("upper", "lower")}
-        kw["shoulder"] = tuple(round(float(v), mm) + 0.0 for v in arm.shoulder)
-    hw = dict(arm.hardware or {})
-    if "calibration" in hw:
-        cal = hw["calibration"]
-        hw["calibration"] = {"offset_deg": [round(float(v), deg) + 0.0 for v in cal["offset_deg"]],
-                             "scale": [round(float(v), scale) for v in cal["scale"]]}
-    return dataclasses.replace(arm, hardware=hw, **kw)
+    """The fitted arm with its numbers rounded far below measuring precision."""
+    v = _model.to_vector(arm)
+    v[:-4] = [round(float(x), mm) + 0.0 for x in v[:-4]]
+    cal = arm.hardware["calibration"]
+    out = _model.corrected_arm(arm, v)
+    out.hardware["calibration"] = {
+        "offset_deg": [round(float(x), deg) + 0.0 for x in cal["offset_deg"]],
+        "scale": [round(float(x), scale) for x in cal["scale"]]}
+    return out
 
 
 def calibration_report(fit):
