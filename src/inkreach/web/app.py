@@ -1,7 +1,6 @@
 """The JSON API and the page, as a FastAPI application."""
 
 import asyncio
-import importlib
 import io
 import logging
 import re
@@ -39,7 +38,6 @@ _CSP = ("default-src 'self'; img-src 'self' data: blob:; style-src 'self'; "
         "frame-ancestors 'none'; form-action 'self'")
 _PROGRESS_ID = re.compile(r"^[A-Za-z0-9_-]{8,64}$")
 _MAX_ARM_BYTES = 200_000
-_FALLBACK_STYLES = ("outline", "centerline", "hatch", "stipple", "contour")
 
 
 class _ApiError(Exception):
@@ -72,45 +70,19 @@ def _jsonable(v):
 
 
 def _default_planner(image, arm=None, style="outline", progress=None, **options):
-    mod = importlib.import_module("inkreach.plan")
-    return mod.plan(image, arm=arm, style=style, progress=progress, **options)
+    from ..plan import plan
+    return plan(image, arm=arm, style=style, progress=progress, **options)
 
 
 def _style_table():
-    """Styles and their options, as far as the tracing stage reports them."""
-    try:
-        trace = importlib.import_module("inkreach.trace")
-        style_options = trace.style_options
-    except (ImportError, AttributeError):
-        style_options = None
-        trace = None
-    names = None
-    for attr in ("STYLES", "styles", "style_names"):
-        v = getattr(trace, attr, None) if trace is not None else None
-        if callable(v):
-            try:
-                v = v()
-            except Exception:
-                v = None
-        if isinstance(v, (list, tuple, dict)) and v:
-            names = tuple(v)
-            break
-    names = names or _FALLBACK_STYLES
-    out = []
-    for name in names:
-        opts = []
-        if style_options is not None:
-            try:
-                table = style_options(name)
-            except Exception:
-                continue
-            for key, val in table.items():
-                if key == "pen_px":
-                    continue
-                default, help_ = (tuple(val) + (None, ""))[:2]
-                opts.append({"name": key, "default": _jsonable(default), "help": str(help_)})
-        out.append({"name": name, "options": opts})
-    return out
+    """Styles and their options (the arm sets the pen width, so it is left out)."""
+    from ..trace import STYLES, style_options
+
+    return [{"name": name,
+             "options": [{"name": key, "default": _jsonable(default), "help": str(help_)}
+                         for key, (default, help_) in style_options(name).items()
+                         if key != "pen_px"]}
+            for name in STYLES]
 
 
 _COMMON = [
@@ -123,11 +95,9 @@ _COMMON = [
 
 
 def _common_options():
-    try:
-        mod = importlib.import_module("inkreach.plan")
-        defaults = {**getattr(mod, "PLACE_OPTIONS", {}), **getattr(mod, "MOTION_OPTIONS", {})}
-    except Exception:
-        defaults = {}
+    from ..plan import MOTION_OPTIONS, PLACE_OPTIONS
+
+    defaults = {**PLACE_OPTIONS, **MOTION_OPTIONS}
     return [{"name": k, "default": _jsonable(defaults.get(k)), "help": h} for k, h in _COMMON]
 
 
@@ -308,34 +278,25 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
     -------
     fastapi.FastAPI
     """
-    state = {"store": None}
+    plans = PlanStore(tmp_root, keep=keep)
     executor = ThreadPoolExecutor(max_workers=max(1, int(workers)),
                                   thread_name_prefix="inkreach-plan")
     slots = threading.BoundedSemaphore(max(1, int(workers)) + max(0, int(queue_limit)))
     progress = _Progress()
     run_plan = planner or _default_planner
 
-    def store():
-        if state["store"] is None:
-            state["store"] = PlanStore(tmp_root, keep=keep)
-        return state["store"]
-
-    store()
-
     def shutdown():
         executor.shutdown(wait=False, cancel_futures=True)
-        if state["store"] is not None:
-            state["store"].close()
+        plans.close()
 
     @asynccontextmanager
     async def lifespan(app):
-        store()
         yield
         shutdown()
 
     app = FastAPI(title="inkreach", lifespan=lifespan, docs_url=None, redoc_url=None,
                   openapi_url=None)
-    app.state.store = state["store"]
+    app.state.store = plans
     app.state.shutdown = shutdown
 
     if allowed_hosts is not None:
@@ -481,7 +442,7 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         p = run_plan(im, arm=arm, style=style, progress=report, **options)
         report("files")
         files = p.files()
-        stored = store().add(files)
+        stored = plans.add(files)
         stats = _jsonable(dict(p.stats))
         out = {
             "id": stored.id,
@@ -494,7 +455,7 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
 
     @app.get("/api/plans/{pid}")
     async def get_plan(pid: str):
-        p = store().get(pid)
+        p = plans.get(pid)
         if p is None:
             raise _ApiError(404, "no such plan; it may have been removed to make room")
         return {"id": p.id,
@@ -502,9 +463,10 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
 
     @app.get("/api/plans/{pid}/files/{name}")
     async def get_file(pid: str, name: str, inline: int = 0):
-        if store().get(pid) is None:
+        p = plans.get(pid)
+        if p is None:
             raise _ApiError(404, "no such plan; it may have been removed to make room")
-        path = store().file(pid, name)
+        path = p.files.get(name)
         if path is None:
             raise _ApiError(404, f"this plan has no file {name[:60]!r}")
         disp = "inline" if inline else "attachment"
