@@ -35,7 +35,8 @@ def decimate_strokes(strokes, max_points=8000, tol=0.1, decimals=2):
     ----------
     .. [1] D. H. Douglas and T. K. Peucker, "Algorithms for the reduction of
        the number of points required to represent a digitized line or its
-       caricature", Cartographica 10(2), 1973 (as in :func:`cv2.approxPolyDP`).
+       caricature", Cartographica 10(2), 1973 (as in
+       :func:`inkreach.trace.simplify_polylines`).
 
     Examples
     --------
@@ -45,17 +46,11 @@ def decimate_strokes(strokes, max_points=8000, tol=0.1, decimals=2):
     >>> out, cut
     ([[[0.0, 0.0], [10.0, 0.0]]], False)
     """
-    import cv2
+    from ..trace import simplify_polylines
 
-    polys = []
-    for s in strokes:
-        a = np.asarray(s, dtype=float).reshape(-1, 2)
-        a = a[np.all(np.isfinite(a), axis=1)]
-        if len(a) == 0:
-            continue
-        if len(a) > 2 and tol > 0:
-            a = cv2.approxPolyDP(a.astype(np.float32).reshape(-1, 1, 2), tol, False).reshape(-1, 2).astype(float)
-        polys.append(a)
+    polys = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
+    polys = [a[np.all(np.isfinite(a), axis=1)] for a in polys]
+    polys = simplify_polylines([a for a in polys if len(a)], tol)
     truncated = False
     n = np.array([len(a) for a in polys], dtype=int)
     if n.sum() > max_points:
