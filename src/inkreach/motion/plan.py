@@ -460,8 +460,6 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             break
         if not _slow_down(f, tv, tau, rows, period):
             break
-    else:
-        rows = _stream_violations(q, period, arm)
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
