@@ -61,6 +61,14 @@ def _fail(msg):
     raise InkreachError(msg)
 
 
+def _first(bad):
+    """Index of the first True in ``bad`` (a tuple for 2-D), or None if there is none."""
+    if not bad.any():
+        return None
+    k = np.unravel_index(int(np.argmax(bad)), bad.shape)
+    return int(k[0]) if bad.ndim == 1 else tuple(int(i) for i in k)
+
+
 def _stream_violations(q, period, arm):
     """Rows involved in a finite-difference speed or acceleration beyond the limits.
 
@@ -204,12 +212,10 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
               f"{pen.shape}, xy {xy.shape}); rebuild it with plan_motion")
     if not T > 0:
         _fail(f"the stream's period is {T!r}; it must be greater than zero")
-    if not np.all(np.isin(pen, (0, 1))):
-        k = int(np.argmax(~np.isin(pen, (0, 1))))
+    if (k := _first(~np.isin(pen, (0, 1)))) is not None:
         _fail(f"{_where(k, T)}: pen is {pen[k]!r}; it must be 0 (lifted) or 1 (down)")
     dt_err = np.abs(t - np.arange(N) * T)
-    if np.any(~(dt_err <= 1e-6 + 1e-9 * np.abs(t))):
-        k = int(np.argmax(~(dt_err <= 1e-6 + 1e-9 * np.abs(t))))
+    if (k := _first(~(dt_err <= 1e-6 + 1e-9 * np.abs(t)))) is not None:
         _fail(f"{_where(k, T)}: time {t[k]:.6f} s is off the fixed period {T:g} s; "
               "the rows must be evenly spaced from t = 0")
 
@@ -217,9 +223,8 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     names = ("theta1", "theta2")
     # Joint limits.
     lo, hi = lim.lower - _ANGLE_TOL, lim.upper + _ANGLE_TOL
-    bad = ~((q >= lo) & (q <= hi))
-    if bad.any():
-        k, j = np.unravel_index(np.argmax(bad), bad.shape)
+    if (kj := _first(~((q >= lo) & (q <= hi)))) is not None:
+        k, j = kj
         _fail(f"{_where(k, T)}: {names[j]} = {np.rad2deg(q[k, j]):.2f} deg is outside the "
               f"limits [{np.rad2deg(lim.lower[j]):g}, {np.rad2deg(lim.upper[j]):g}] deg; "
               "keep the drawing inside the usable region")
@@ -227,18 +232,15 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     x = arm.fk(q)
     with np.errstate(invalid="ignore"):
         err = np.hypot(*(x - xy).T)
-    if np.any(~np.isfinite(x).all(axis=1)):
-        k = int(np.argmax(~np.isfinite(x).all(axis=1)))
+    if (k := _first(~np.isfinite(x).all(axis=1))) is not None:
         _fail(f"{_where(k, T)}: the linkage does not close at ({np.rad2deg(q[k, 0]):.2f}, "
               f"{np.rad2deg(q[k, 1]):.2f}) deg; plan the motion again inside the usable region")
-    if np.any(~(err <= atol)):
-        k = int(np.argmax(~(err <= atol)))
+    if (k := _first(~(err <= atol))) is not None:
         _fail(f"{_where(k, T)}: x, y = ({xy[k, 0]:.4f}, {xy[k, 1]:.4f}) mm but the angles "
               f"put the pen at ({x[k, 0]:.4f}, {x[k, 1]:.4f}) mm; rebuild xy from the angles")
     # Conditioning.
     c = arm.conditioning(q)
-    if np.any(~(c >= lim.min_conditioning - 1e-12)):
-        k = int(np.argmax(~(c >= lim.min_conditioning - 1e-12)))
+    if (k := _first(~(c >= lim.min_conditioning - 1e-12))) is not None:
         _fail(f"{_where(k, T)}: conditioning {c[k]:.3f} is below the floor "
               f"{lim.min_conditioning:g} (near a singularity); place the drawing in the "
               "well-conditioned region")
@@ -247,13 +249,13 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     amax = lim.max_accel * (1 + _REL_TOL)
     v = np.abs(np.diff(q, axis=0)) / T if N > 1 else np.zeros((0, 2))
     a = np.abs(np.diff(q, n=2, axis=0)) / T ** 2 if N > 2 else np.zeros((0, 2))
-    if np.any(v > vmax):
-        k, j = np.unravel_index(np.argmax(v > vmax), v.shape)
+    if (kj := _first(v > vmax)) is not None:
+        k, j = kj
         _fail(f"{_where(k + 1, T)}: {names[j]} speed {np.rad2deg(v[k, j]):.1f} deg/s exceeds "
               f"the limit {np.rad2deg(lim.max_speed):g} deg/s; lower tip_speed or margin and "
               "plan again")
-    if np.any(a > amax):
-        k, j = np.unravel_index(np.argmax(a > amax), a.shape)
+    if (kj := _first(a > amax)) is not None:
+        k, j = kj
         _fail(f"{_where(k + 1, T)}: {names[j]} acceleration {np.rad2deg(a[k, j]):.1f} deg/s^2 "
               f"exceeds the limit {np.rad2deg(lim.max_accel):g} deg/s^2; lower margin and "
               "plan again")
@@ -263,14 +265,12 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     if strokes is not None:
         S = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
         lab = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
-        if np.any(down & ((lab < 0) | (lab >= len(S)))):
-            k = int(np.argmax(down & ((lab < 0) | (lab >= len(S)))))
+        if (k := _first(down & ((lab < 0) | (lab >= len(S))))) is not None:
             _fail(f"{_where(k, T)}: the pen is down but the row belongs to no stroke "
                   f"(stroke index {lab[k]}, {len(S)} strokes); plan the motion again")
         present = np.zeros(len(S), bool)
         present[lab[down]] = True
-        if not present.all():
-            i = int(np.argmin(present))
+        if (i := _first(~present)) is not None:
             _fail(f"stroke {i} is never drawn (no pen-down row); plan the motion again")
         deviation = 0.0
         kd = np.flatnonzero(down)
@@ -301,12 +301,10 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
             want1 = np.array([s[-1] for s in S])
             e0 = np.hypot(*(x[first] - want0).T)
             e1 = np.hypot(*(x[last] - want1).T)
-            if np.any(~(e0 <= atol)):
-                i = int(np.argmax(~(e0 <= atol)))
+            if (i := _first(~(e0 <= atol))) is not None:
                 _fail(f"{_where(int(first[i]), T)}: the pen touches down {e0[i]:.4f} mm from "
                       f"the start of stroke {i}; plan the motion again")
-            if np.any(~(e1 <= atol)):
-                i = int(np.argmax(~(e1 <= atol)))
+            if (i := _first(~(e1 <= atol))) is not None:
                 _fail(f"{_where(int(last[i]), T)}: the pen lifts {e1[i]:.4f} mm from the end "
                       f"of stroke {i}; plan the motion again")
 
