@@ -113,37 +113,28 @@ class PathSearch:
         xs, ys, n, S, D = self.xs, self.ys, self.n, self.S, self.D
         has_start = self.has_start
         sx, sy = self.start
-        hypot, sqrt = math.hypot, math.sqrt
         if self.kind == "euclidean":
-            def base(dx, dy):
-                return hypot(dx, dy)
+            base = math.hypot
         else:
+            # Scalar form of motion.trapezoid_time on the larger angle change
+            # (a numpy call per edge would dominate the search).
             v, a = self.vmax, self.amax
             knee = v * v / a
             inv_v, v_over_a = 1.0 / v, v / a
+            sqrt = math.sqrt
 
             def base(dx, dy):
                 d = max(abs(dx), abs(dy))
                 return d * inv_v + v_over_a if d > knee else 2.0 * sqrt(d / a)
 
-        if self.kind == "euclidean":
-            def dist(u, w):
-                if u < n and w < n:
-                    return hypot(xs[u] - xs[w], ys[u] - ys[w])
-                if u == D or w == D or not has_start:
-                    return 0.0
-                if u == S:
-                    u = w
-                return hypot(xs[u] - sx, ys[u] - sy)
-        else:
-            def dist(u, w):
-                if u < n and w < n:
-                    return base(xs[u] - xs[w], ys[u] - ys[w])
-                if u == D or w == D or not has_start:
-                    return 0.0
-                if u == S:
-                    u = w
-                return base(xs[u] - sx, ys[u] - sy)
+        def dist(u, w):
+            if u < n and w < n:
+                return base(xs[u] - xs[w], ys[u] - ys[w])
+            if u == D or w == D or not has_start:
+                return 0.0
+            if u == S:
+                u = w
+            return base(xs[u] - sx, ys[u] - sy)
         self.dist = dist
 
     def _neighbours(self):
@@ -226,7 +217,7 @@ class PathSearch:
         """Vectorised distance between node arrays ``u`` and ``w``."""
         u = np.asarray(u, dtype=np.int64)
         w = np.asarray(w, dtype=np.int64)
-        xy = np.column_stack([self.xs, self.ys, ]) if self.n else np.zeros((0, 2))
+        xy = np.column_stack([self.xs, self.ys]) if self.n else np.zeros((0, 2))
         ext = np.vstack([xy, [self.start, self.start]])
         d = ext[u] - ext[w]
         if self.kind == "euclidean":
@@ -300,7 +291,7 @@ class PathSearch:
     def run(self, active=None, work_limit=math.inf, deadline=math.inf):
         """2-opt and Or-opt from the active nodes until no move improves."""
         tour, pos, partner, neigh, dist = self.tour, self.pos, self.partner, self.neigh, self.dist
-        M, n = self.M, self.n
+        M = self.M
         if M < 5:
             return
         live = self.live
@@ -331,7 +322,6 @@ class PathSearch:
         pa = pos[a]
         na = neigh[a]
         nda = self.neigh_d[a]
-        neigh_d = self.neigh_d
         for sdir in (1, -1):
             b = tour[(pa + sdir) % M]
             if partner[a] == b:
@@ -516,18 +506,16 @@ class PathSearch:
             o1, o2 = (c1 - c0) % M, (c2 - c0) % M
             if not 0 < o1 < o2 < M - 1:
                 continue
-            cuts = (c0, c1, c2)
-            p0 = c0
-            a0, a1, a2 = tour[cuts[0]], tour[cuts[1]], tour[cuts[2]]
-            b0, b1, b2 = tour[(cuts[0] + 1) % M], tour[(cuts[1] + 1) % M], tour[(cuts[2] + 1) % M]
+            a0, a1, a2 = tour[c0], tour[c1], tour[c2]
+            b0, b1, b2 = tour[(c0 + 1) % M], tour[(c1 + 1) % M], tour[(c2 + 1) % M]
             before = self.cost
             self._log = []
             # A B C E -> A C B E: swap the segments B = b0..a1 and C = b1..a2.
             delta = (dist(a0, b0) + dist(a1, b1) + dist(a2, b2)
                      - dist(a0, b1) - dist(a2, b0) - dist(a1, b2))
-            i = (cuts[0] + 1) % M
+            i = (c0 + 1) % M
             B = self._read(i, o1)
-            C = self._read((cuts[1] + 1) % M, o2 - o1)
+            C = self._read((c1 + 1) % M, o2 - o1)
             self._write(i, np.concatenate([C, B]))
             self.cost -= delta
             self.run([v for v in (a0, b0, a1, b1, a2, b2) if v < self.live], work_limit, deadline)
