@@ -378,11 +378,15 @@ def _skeleton_graph(skel):
 
 
 def _end_dirs(paths):
-    dirs = np.zeros((2 * len(paths), 2))
-    for e, p in enumerate(paths):
-        k = min(_TANGENT_PX, len(p) - 1)
-        dirs[2 * e] = p[k] - p[0]
-        dirs[2 * e + 1] = p[-1 - k] - p[-1]
+    """Direction of each path leaving its start, then leaving its end."""
+    n = np.array([len(p) for p in paths], dtype=np.intp)
+    first = np.cumsum(n) - n
+    last = first + n - 1
+    k = np.minimum(_TANGENT_PX, n - 1)
+    P = np.concatenate(paths)
+    dirs = np.empty((2 * len(paths), 2))
+    dirs[0::2] = P[first + k] - P[first]
+    dirs[1::2] = P[last - k] - P[last]
     return dirs
 
 
