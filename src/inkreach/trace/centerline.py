@@ -129,7 +129,6 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
     o = _options.check("centerline", dict(pen_px=pen_px, threshold=threshold,
                                           min_length=min_length, prune=prune,
                                           smooth=smooth, simplify=simplify))
-    lum = as_luminance(lum)
     ink = ink_mask(lum, o["threshold"])
     speck = max(2, int(round(0.5 * o["pen_px"] ** 2)))
     ink = _drop_small(ink, speck)
@@ -143,6 +142,6 @@ def centerline(lum, *, pen_px=2.0, threshold="auto", min_length=None, prune=None
         prune = max(3.0, 2.5 * float(np.median(half)))
     else:
         prune = o["prune"]
-    ml = default_min_length(lum.shape) if o["min_length"] is None else o["min_length"]
+    ml = default_min_length(ink.shape) if o["min_length"] is None else o["min_length"]
     strokes = trace_skeleton(skel, prune=prune, smooth=o["smooth"], min_length=ml)
-    return finish(strokes, "centerline", ml, o["simplify"], 0.0, lum.shape)
+    return finish(strokes, "centerline", ml, o["simplify"], 0.0, ink.shape)
