@@ -176,7 +176,18 @@ def test_table_rows_match_python_percent_formatting_of_rounded_values(v, fmt):
     ints = np.rint(v).astype(np.int64)
     cols = [v, ints, v[::-1].copy()]
     formats = [fmt, "%d", fmt]
-    assert _table("h", cols, formats) == "h\n" + _table_slow(cols, formats)
+    d = int(fmt[2:-1])
+    want = "".join(f"{fmt % (float(np.round(a, d)) + 0.0)},{int(b)},"
+                   f"{fmt % (float(np.round(c, d)) + 0.0)}\n" for a, b, c in zip(*cols))
+    assert _table("h", cols, formats) == "h\n" + want
+    assert _table_slow(cols, formats) == want  # the fallback for values beyond 2**52
+
+
+def test_table_values_beyond_exact_scaled_integers_fall_back_to_percent_formatting():
+    # Reference: Python's "%.6f" % 1e12 is "1000000000000.000000"; 1e12 * 10**6
+    # is beyond 2**52, where the scaled integers stop being exact.
+    assert _table("h", [np.array([1e12]), np.array([3])], ["%.6f", "%d"]) == \
+        "h\n1000000000000.000000,3\n"
 
 
 @settings(max_examples=60, deadline=None)
