@@ -61,6 +61,20 @@ def test_sheet_shows_axes_motors_corner_markers_and_numbered_rings_at_the_dots()
     assert [t.text for t in _of(root, "text", "dot-label")] == [str(i) for i in range(1, 11)]
 
 
+def test_printed_corner_markers_sit_where_sheet_corners_says():
+    # the photo reader maps pixels to mm through sheet_corners, so the
+    # printed squares must be centred there; page mapping inverted from the
+    # motor marks as above (x_page = x - x0, y_page = y1 - y)
+    arm, q, root = _sheet(n=10)
+    motor = _of(root, "g", "motor")[0].find("s:circle", NS)
+    x0 = arm.left_motor[0] - float(motor.get("cx"))
+    y1 = arm.left_motor[1] + float(motor.get("cy"))
+    rects = _of(root, "rect", "corner")
+    centres = np.array([[float(r.get("x")) + float(r.get("width")) / 2 + x0,
+                         y1 - float(r.get("y")) - float(r.get("height")) / 2] for r in rects])
+    np.testing.assert_allclose(centres, sheet_corners(arm, q), atol=1e-9)
+
+
 def test_corner_markers_enclose_every_dot():
     arm = load_arm("serial")
     q = calibration_targets(arm, n=8)

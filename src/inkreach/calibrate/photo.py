@@ -57,13 +57,14 @@ def measure_sheet_photo(image, arm, targets, search_mm=10.0):
     gray = _gray(image)
     q = np.asarray(targets, dtype=float).reshape(-1, 2)
     corners_px, ink = _find_markers(gray, cv2)
-    H, _ = cv2.findHomography(corners_px, sheet_corners(arm, q))
+    corners_mm = sheet_corners(arm, q)
+    H, _ = cv2.findHomography(corners_px, corners_mm)
     if H is None:
         raise InkreachError("the corner markers in the photo do not form a usable frame; "
                             "take the photo flat-on with all four corners in view")
     # pixels per mm, for the blob size limits
     Hi = np.linalg.inv(H)
-    c_mm = sheet_corners(arm, q).mean(0)
+    c_mm = corners_mm.mean(0)
     a, b = cv2.perspectiveTransform(np.array([[c_mm, c_mm + [1.0, 0.0]]]), Hi)[0]
     px_per_mm = float(np.hypot(*(b - a)))
     if px_per_mm < 3.0:

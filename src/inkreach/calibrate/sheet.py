@@ -21,9 +21,7 @@ def sheet_corners(arm, targets):
     motor side and the motors). A photo of the sheet can be mapped back to
     the arm frame from these four points.
     """
-    x0, y0, x1, y1 = _extent(arm, targets)
-    h = _MARKER / 2 + 2.0
-    return np.array([[x0 + h, y0 + h], [x1 - h, y0 + h], [x1 - h, y1 - h], [x0 + h, y1 - h]])
+    return _corners(_extent(arm, arm.fk(np.asarray(targets, float).reshape(-1, 2))))
 
 
 def sheet_svg(arm, targets):
@@ -66,7 +64,8 @@ def sheet_svg(arm, targets):
     if not np.all(np.isfinite(dots)):
         raise InkreachError("some calibration angles do not assemble on this arm; "
                             "make the targets with calibration_targets for the same arm")
-    x0, y0, x1, y1 = _extent(arm, q)
+    extent = _extent(arm, dots)
+    x0, y0, x1, y1 = extent
     W, H = x1 - x0, y1 - y0
 
     def X(x):
@@ -120,7 +119,7 @@ def sheet_svg(arm, targets):
         out.append(f'<text x="{cx + 4:g}" y="{cy - 4:g}" font-size="2.5" fill="#b02020">'
                    f"{escape(label)} ({mx:g}, {my:g})</text>")
     # corner markers
-    for cx, cy in sheet_corners(arm, q):
+    for cx, cy in _corners(extent):
         s = _MARKER
         out.append(f'<rect class="corner" x="{X(cx) - s / 2:g}" y="{Y(cy) - s / 2:g}" width="{s:g}" '
                    f'height="{s:g}" fill="black"/>')
@@ -178,9 +177,16 @@ def _motors(arm):
     return [("shoulder", tuple(arm.shoulder))]
 
 
-def _extent(arm, q):
+def _corners(extent):
+    """Centres of the corner markers of a sheet with ``extent`` (see ``sheet_corners``)."""
+    x0, y0, x1, y1 = extent
+    h = _MARKER / 2 + 2.0
+    return np.array([[x0 + h, y0 + h], [x1 - h, y0 + h], [x1 - h, y1 - h], [x0 + h, y1 - h]])
+
+
+def _extent(arm, dots):
     """(x0, y0, x1, y1) of the sheet: dots, motors and origin, plus a margin, to 10 mm."""
-    pts = [arm.fk(np.asarray(q, float).reshape(-1, 2)), np.array([[0.0, 0.0]])]
+    pts = [dots, np.array([[0.0, 0.0]])]
     pts += [np.array([m]) for _, m in _motors(arm)]
     P = np.concatenate(pts)
     P = P[np.all(np.isfinite(P), axis=1)]
