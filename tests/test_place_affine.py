@@ -8,7 +8,6 @@ import pytest
 
 from inkreach.arms import default_arm, workspace_map
 from inkreach.place import Placement, place_drawing
-from inkreach.place._geometry import _convex_hull
 
 
 @functools.lru_cache(maxsize=None)
@@ -55,9 +54,10 @@ def test_scale_equals_the_ratio_of_placed_to_image_hull_size(rotations):
     strokes = _arrow()
     p = place_drawing(strokes, arm, wmap=wmap, rotations=rotations)
     pts = np.concatenate(strokes)
-    h_img = _convex_hull(pts)
+    # Reference: the image hull's perimeter from OpenCV (cv2.convexHull, cv2.arcLength).
+    h_img = cv2.convexHull(pts.astype(np.float32))
     perim = lambda v: np.hypot(*(np.roll(v, -1, 0) - v).T).sum()  # noqa: E731
-    assert np.isclose(perim(p.hull) / perim(h_img), p.scale)
+    assert np.isclose(perim(p.hull) / cv2.arcLength(h_img, True), p.scale, rtol=1e-6)
     # the linear part is scale * rotation * diag(1, -1)
     c, s = np.cos(p.rotation), np.sin(p.rotation)
     np.testing.assert_allclose(p.matrix[:, :2], p.scale * np.array([[c, s], [s, -c]]),
