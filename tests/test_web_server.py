@@ -8,28 +8,15 @@ import sys
 import httpx
 import pytest
 
-from test_web_api import JOINTS_HEADER, _picture, _png, _real_planner_runs
+from test_web_api import JOINTS_HEADER, _picture, _png
 
-TESTS = os.path.dirname(os.path.abspath(__file__))
-
-_LAUNCH = """
-import sys
-sys.path.insert(0, {tests!r})
-from inkreach.web import serve
-opts = {{}}
-if {fake!r}:
-    from test_web_api import fake_plan
-    opts["planner"] = fake_plan
-serve(host="127.0.0.1", port=0, **opts)
-"""
+_LAUNCH = 'from inkreach.web import serve; serve(host="127.0.0.1", port=0)'
 
 
-def start_server(fake=None):
+def start_server():
     """Start ``inkreach.web.serve`` in a child process on a free port; return (proc, url)."""
-    fake = (not _real_planner_runs()) if fake is None else fake
-    code = _LAUNCH.format(tests=TESTS, fake=fake)
     env = {**os.environ, "PYTHONUNBUFFERED": "1"}
-    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE,
+    proc = subprocess.Popen([sys.executable, "-c", _LAUNCH], stdout=subprocess.PIPE,
                             stderr=subprocess.PIPE, text=True, env=env)
     line = proc.stdout.readline()
     if "http://" not in line:
