@@ -72,6 +72,8 @@ def test_score_improves_as_hatch_spacing_is_refined_on_a_grey_wedge():
     ssim = [f.ssim for f in scores]
     assert all(a > b for a, b in zip(tone, tone[1:])), tone
     assert all(a < b for a, b in zip(ssim, ssim[1:])), ssim
+    # the finest hatch is about a pen width apart and nearly flat once blurred; the
+    # bounds are an allowance of this project (not from a source)
     assert tone[-1] < 0.01 and ssim[-1] > 0.98
 
 
@@ -216,6 +218,8 @@ def test_drawing_from_the_angles_lands_back_on_the_picture():
     target = 1.0 - render_coverage(lines_px, (h, w), pen_px)
     img = linear_to_srgb(np.clip(target, 0, 1))     # pictures come sRGB-encoded
     f = fidelity((stream, arm, placement), img)
+    # near-identity: the bounds allow for the IK/FK round trip, the 0.3 mm samples and
+    # the resampling onto the comparison grid (an allowance of this project, not sourced)
     assert f.tone_error < 0.01 and f.ssim > 0.97
     empty = _stream(stream.q, np.zeros(len(stream.q)), -np.ones(len(stream.q)), arm)
     g = fidelity((empty, arm, placement), img)
@@ -233,10 +237,7 @@ def test_real_plan_of_the_demo_picture_scores_in_range(style):
     from inkreach.plan import plan
 
     path, _ = demo_picture("emblem")
-    try:
-        p = plan(path, style=style, max_side=400)
-    except ImportError as exc:              # a stage of the planner still missing
-        pytest.skip(f"planner not complete: {exc}")
+    p = plan(path, style=style, max_side=400)
     d = plan_fidelity(p, path)
     assert set(d) == {"ssim", "tone_error"}
     assert np.isfinite(d["ssim"]) and -1.0 <= d["ssim"] <= 1.0
