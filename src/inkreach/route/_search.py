@@ -52,6 +52,22 @@ def default_budget(n_items, per_item=100e-6):
     return float(min(max(per_item * n_items, min(0.3, 1.2e-3 * n_items)), 10.0))
 
 
+def improve_path(xy, partner, order, start, budget, seed, kicks, **options):
+    """Local search, then ``kicks`` kicks, from an initial order within ``budget`` seconds.
+
+    ``options`` go to :class:`PathSearch`. Returns the search (read its
+    ``path()`` and ``cost``) and the cost of ``order`` before it.
+    """
+    work_limit = budget * UNITS_PER_SECOND
+    deadline = time.perf_counter() + 4.0 * budget + 1.0
+    search = PathSearch(xy, partner, order, start=start, **options)
+    before = search.cost
+    search.run(work_limit=work_limit, deadline=deadline)
+    search.kick_search(np.random.default_rng(seed), kicks=kicks, work_limit=work_limit,
+                       deadline=deadline)
+    return search, before
+
+
 class PathSearch:
     """Tour state and moves; see the module docstring.
 

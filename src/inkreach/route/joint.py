@@ -1,12 +1,10 @@
 """Pen-up time in joint space, and reordering under it."""
 
-import time
-
 import numpy as np
 
 from ..errors import InkreachError
 from ..motion import trapezoid_time
-from ._search import UNITS_PER_SECOND, PathSearch, default_budget
+from ._search import default_budget, improve_path
 from .stats import travel_stats
 from .strokes import Route, _as_strokes, _Items
 
@@ -151,13 +149,8 @@ def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, s
     v, a = arm.limits.max_speed, arm.limits.max_accel
     seq = np.arange(len(q))
     budget = default_budget(n) if time_budget is None else float(time_budget)
-    work_limit = budget * UNITS_PER_SECOND
-    deadline = time.perf_counter() + 4.0 * budget + 1.0
-    search = PathSearch(q, items.partner, seq, start=start, kind="joint", vmax=v, amax=a)
-    before = search.cost
-    search.run(work_limit=work_limit, deadline=deadline)
-    search.kick_search(np.random.default_rng(seed), kicks=30 * n, work_limit=work_limit,
-                       deadline=deadline)
+    search, before = improve_path(q, items.partner, seq, start, budget, seed, kicks=30 * n,
+                                  kind="joint", vmax=v, amax=a)
     if not search.cost < before - 1e-9:
         return base
     r = items.route(search.path(), start_mm)

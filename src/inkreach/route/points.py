@@ -1,13 +1,11 @@
 """Visiting order for a cloud of points (dots, stipples)."""
 
-import time
-
 import numpy as np
 
 from ..errors import InkreachError
 from ._greedy import greedy_path
 from ._nearest import nearest_walk
-from ._search import UNITS_PER_SECOND, PathSearch, default_budget
+from ._search import default_budget, improve_path
 
 __all__ = ["order_points"]
 
@@ -72,7 +70,8 @@ def order_points(points, start=None, time_budget=None):
         return _small_best(p, start, order)
     order = greedy_path(p, np.arange(n), start)
     budget = default_budget(n) if time_budget is None else float(time_budget)
-    return _improve(p, np.arange(n), order, start, budget, seed=0)
+    search, _ = improve_path(p, np.arange(n), order, start, budget, seed=0, kicks=30 * n)
+    return search.path()
 
 
 def _small_best(p, start, order):
@@ -83,14 +82,3 @@ def _small_best(p, start, order):
             order = order[::-1]
     return order
 
-
-def _improve(xy, partner, order, start, budget, seed, kind="euclidean", vmax=1.0, amax=1.0):
-    """Run the local search and kicks on an initial node order; return nodes."""
-    t0 = time.perf_counter()
-    work_limit = budget * UNITS_PER_SECOND
-    deadline = t0 + 4.0 * budget + 1.0
-    s = PathSearch(xy, partner, order, start=start, kind=kind, vmax=vmax, amax=amax)
-    s.run(work_limit=work_limit, deadline=deadline)
-    rng = np.random.default_rng(seed)
-    s.kick_search(rng, kicks=30 * len(xy), work_limit=work_limit, deadline=deadline)
-    return s.path()
