@@ -38,6 +38,7 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200):
     from inkreach.arms import default_arm, workspace_map
     from inkreach.motion import check_stream, plan_motion
     from inkreach.place import place_drawing, provisional_scale
+    from inkreach.plan import joint_order_budget
     from inkreach.route import merge_strokes, order_strokes, reorder_joint_space
     from inkreach.trace import load_image, trace
 
@@ -72,7 +73,7 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200):
     r = order_strokes(strokes_mm, start=start)
     # the planner's budget for the joint-space pass (inkreach.plan.plan)
     r = reorder_joint_space(r, arm, start_q=q0,
-                            time_budget=min(1.0, 0.05 + 20e-6 * len(r.strokes)))
+                            time_budget=joint_order_budget(len(r.strokes)))
     times["route"] = T() - t
     region = placement.hull if len(placement.hull) >= 3 else None
     t = T()

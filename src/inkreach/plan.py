@@ -122,6 +122,15 @@ class Plan:
         return {name: os.path.join(os.fspath(folder), name) for name in files}
 
 
+def joint_order_budget(n_strokes):
+    """Time budget (s) of the joint-space reordering pass for ``n_strokes``.
+
+    The pass refines an order that is already good in millimetres, so a
+    small budget gets nearly all of its gain.
+    """
+    return min(1.0, 0.05 + 20e-6 * n_strokes)
+
+
 def _reached_xy(stream, arm, signals):
     """Pen positions the motors really reach, after signal quantisation."""
     from .signals import quantised_angles
@@ -251,10 +260,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     step("route")
     route = order_strokes(strokes_mm, start=start_xy)
     if own["joint_order"]:
-        # the joint-space pass refines an order that is already good: a small
-        # budget gets nearly all of its gain
-        budget = min(1.0, 0.05 + 20e-6 * len(route.strokes))
-        route = reorder_joint_space(route, arm, start_q=start_q, time_budget=budget)
+        route = reorder_joint_space(route, arm, start_q=start_q,
+                                    time_budget=joint_order_budget(len(route.strokes)))
     step("motion")
     # a flat drawing (one straight line) has a two-point hull: no region
     region = placement.hull if len(placement.hull) >= 3 else None
