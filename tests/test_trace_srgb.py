@@ -19,10 +19,13 @@ def test_srgb_decoding_matches_iec_61966_2_1_worked_values(encoded, linear):
 
 
 def test_srgb_decoding_is_continuous_at_the_0_04045_breakpoint():
-    # IEC 61966-2-1: both pieces meet at 0.04045 (to within 1e-7 by design).
+    # IEC 61966-2-1: both pieces meet at 0.04045 (to within 1e-7 by design);
+    # just above it the code must follow the power-law piece of the standard.
     below = 0.04045 / 12.92
     above = ((0.04045 + 0.055) / 1.055) ** 2.4
     assert above == pytest.approx(below, abs=1e-7)
+    up = np.nextafter(0.04045, 1.0)
+    assert float(srgb_to_linear(up)) == pytest.approx(((up + 0.055) / 1.055) ** 2.4, abs=1e-15)
     e = np.array([0.04045 - 1e-9, 0.04045, 0.04045 + 1e-9])
     assert np.ptp(srgb_to_linear(e)) < 1e-8
 
