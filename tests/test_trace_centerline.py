@@ -29,7 +29,6 @@ def _check(strokes, truth, open_ends=()):
     pts = np.concatenate(strokes)
     d_out, _ = cKDTree(truth).query(pts)
     assert d_out.max() <= 1.5                       # strokes lie on the centre line
-    d_in, _ = cKDTree(pts if len(pts) > 1 else pts).query(truth)
     # Densify the strokes (they are simplified polylines) before the recall.
     dense = np.concatenate([np.linspace(a, b, max(2, int(np.hypot(*(b - a))) * 2 + 2))
                             for s in strokes for a, b in zip(s[:-1], s[1:])])
