@@ -47,7 +47,9 @@ def test_outline_defaults_give_few_long_strokes_on_a_photo():
     strokes = outline(lum)
     lengths = np.array([np.hypot(*np.diff(s, axis=0).T).sum() for s in strokes])
     assert 20 < len(strokes) < 2000
-    assert lengths.min() >= 0.01 * 512 - 1e-9          # no crumbs below min_length
+    # No crumbs below the documented default min_length: 2.5 % of the long
+    # side (512 px) and at least 8 pen widths (2 px).
+    assert lengths.min() >= max(8 * 2.0, 0.025 * 512) - 1e-9
     assert np.median([len(s) for s in strokes]) < np.median(lengths)   # simplified
 
 
