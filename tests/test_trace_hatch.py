@@ -44,7 +44,7 @@ def test_hatch_of_a_flat_grey_is_a_few_long_strokes():
     lum = np.full((200, 200), 0.5, np.float32)
     strokes = hatch(lum)
     total = sum(len(s) for s in strokes)
-    assert len(strokes) <= 8 and total > 100
+    assert len(strokes) <= 8 and total > 100   # rough bound set by hand (common practice)
 
 
 def test_darker_tones_get_more_crossing_directions():
@@ -58,8 +58,18 @@ def test_darker_tones_get_more_crossing_directions():
 
 
 def test_hatch_with_fixed_spacing_steps_through_layers():
+    # Lines 2 px wide every 6 px ink f = 1/3 a layer; k crossed layers ink
+    # 1 - (2/3)**k = 0, 0.33, 0.56, 0.70, 0.80 (Murray-Davies, as above).
+    # The lightest band (ink 0.08) is nearest 0 layers and stays bare; the
+    # darkest (ink 0.95) is nearest all four, so all four directions appear.
     strokes = hatch(_wedge(), spacing=6.0)
     assert strokes and all(s.shape[1] == 2 for s in strokes)
+    pts = np.concatenate(strokes)
+    assert pts[:, 0].min() > _BAND - 2
+    segs = np.concatenate([np.diff(s, axis=0) for s in strokes])
+    segs = segs[np.hypot(*segs.T) > 40]                 # hatch lines, not joins
+    ang = np.round(np.degrees(np.arctan2(-segs[:, 1], segs[:, 0])) % 180) % 180
+    assert set(ang.tolist()) == {0.0, 45.0, 90.0, 135.0}
 
 
 def test_hatch_lines_stay_inside_dark_regions():
