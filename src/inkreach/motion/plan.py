@@ -6,7 +6,7 @@ from ..errors import InkreachError
 from ..place._geometry import _ccw, _inside_convex
 from .check import check_stream, _stream_violations
 from .stream import JointStream
-from .subdivide import _subdivide_many
+from .subdivide import _drop_repeats, _subdivide_many
 from .timing import _forward_backward, _position_in_segment, _segment_profiles
 
 __all__ = ["plan_motion"]
@@ -31,9 +31,7 @@ def _as_strokes(strokes):
                                 f"N >= 1, got shape {a.shape}")
         if not np.all(np.isfinite(a)):
             raise InkreachError(f"stroke {i} has NaN or infinite coordinates; drop those points")
-        keep = np.ones(len(a), bool)
-        keep[1:] = np.any(np.diff(a, axis=0) != 0, axis=1)
-        out.append(a[keep])
+        out.append(_drop_repeats(a))
     return out
 
 

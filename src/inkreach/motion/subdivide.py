@@ -12,6 +12,13 @@ _MAX_ROUNDS = 40
 _MIN_LENGTH = 1e-6
 
 
+def _drop_repeats(points):
+    """The points without consecutive duplicates."""
+    keep = np.ones(len(points), bool)
+    keep[1:] = np.any(np.diff(points, axis=0) != 0, axis=1)
+    return points[keep]
+
+
 def _chord_deviation(arm, pa, pb, qa, qb):
     """Largest distance of the joint-linear chord ``qa -> qb`` from ``pa -> pb``.
 
@@ -154,9 +161,7 @@ def subdivide(polyline, arm, chord_tol=0.05):
         raise InkreachError("a polyline has NaN or infinite coordinates; drop those points")
     if not chord_tol > 0:
         raise InkreachError(f"chord_tol must be greater than zero, got {chord_tol!r}")
-    keep = np.ones(len(P), bool)
-    keep[1:] = np.any(np.diff(P, axis=0) != 0, axis=1)
-    P = P[keep]
+    P = _drop_repeats(P)
     ok = arm.reachable(P)
     if not np.all(ok):
         k = int(np.argmin(ok))
