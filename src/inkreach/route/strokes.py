@@ -91,6 +91,7 @@ class _Items:
         self.partner[two + 1] = two
         firsts = np.array([s[0] for s in strokes]).reshape(-1, 2)
         lasts = np.array([s[-1] for s in strokes]).reshape(-1, 2)
+        self.first, self.last = firsts, lasts
         self.xy = np.empty((nnode, 2))
         self.xy[self.base] = firsts
         self.xy[two + 1] = lasts[nn == 2]
@@ -108,6 +109,7 @@ class _Items:
         pnode = [self.base[opn], self.base[opn] + 1, self.base[sg]]
         pvert = [np.zeros(2 * no + len(sg), int)]
         count = 2 * no + len(sg)
+        self.loop_candidates = {}  # item -> (sampled entry vertices, their points)
         for i in cl.tolist():
             m = len(strokes[i]) - 1
             v = np.unique(np.linspace(0, m - 1, min(m, _LOOP_SAMPLES)).round().astype(int))
@@ -117,6 +119,7 @@ class _Items:
             pitem.append(np.full(len(v), i))
             pnode.append(np.full(len(v), self.base[i]))
             pvert.append(v)
+            self.loop_candidates[i] = (v, strokes[i][v])
         self.pxy = np.concatenate(pxy)
         self.pexit = np.concatenate(pexit)
         self.pitem = np.concatenate(pitem)
@@ -172,16 +175,6 @@ class _Items:
         """Greedy-edge node order (loop entries as set)."""
         return greedy_path(self.xy, self.partner, start)
 
-    def _loop_candidates(self):
-        if not hasattr(self, "_cands"):
-            sel = np.flatnonzero(self.closed[self.pitem])
-            it = self.pitem[sel]
-            cuts = np.flatnonzero(np.diff(it)) + 1
-            self._cands = {int(i[0]): (v, p) for i, v, p in zip(
-                np.split(it, cuts), np.split(self.pvert[sel], cuts), np.split(self.pxy[sel], cuts))} \
-                if len(sel) else {}
-        return self._cands
-
     def orient(self, path, start):
         """Best directions and loop entries (sampled) for the order of ``path``.
 
@@ -194,13 +187,10 @@ class _Items:
         keep[1:] = items[1:] != items[:-1]
         order = items[keep]
         cands = {}
-        for i, (vi, pts) in self._loop_candidates().items():
+        for i, (vi, pts) in self.loop_candidates.items():
             v = self.vertex[i]
             cands[i] = (np.append(vi, v), np.vstack([pts, self.strokes[i][v:v + 1]]))
-        if not hasattr(self, "_first"):
-            self._first = np.array([s[0] for s in self.strokes]).reshape(-1, 2)
-            self._last = np.array([s[-1] for s in self.strokes]).reshape(-1, 2)
-        cost, state = orient(self._first, self._last, {i: c[1] for i, c in cands.items()}, order, start)
+        cost, state = orient(self.first, self.last, {i: c[1] for i, c in cands.items()}, order, start)
         cl = self.closed[order]
         moved = []
         for k in np.flatnonzero(cl).tolist():
