@@ -5,8 +5,9 @@ import itertools
 import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
+from scipy import ndimage
 
-from inkreach.arms import default_arm, load_arm
+from inkreach.arms import default_arm, load_arm, workspace_map
 from inkreach.calibrate import calibration_targets
 from inkreach.calibrate.targets import _farthest_points, _short_path
 from inkreach.errors import InkreachError
@@ -28,9 +29,18 @@ def test_targets_spread_over_the_usable_region():
     xy = arm.fk(calibration_targets(arm, n=12))
     d = np.hypot(*(xy[:, None] - xy[None]).transpose(2, 0, 1))
     d[np.eye(12, dtype=bool)] = np.inf
-    assert d.min() > 20.0  # a postcard-sized region: dots far apart
+    assert d.min() > 20.0  # a postcard-sized region: dots far apart (common practice)
     sv = np.linalg.svd(xy - xy.mean(0), compute_uv=False) / np.sqrt(12)
-    assert sv[1] > 30.0  # not close to a line
+    assert sv[1] > 30.0  # not close to a line (common practice)
+    # Gonzalez (1985): every sampled grid point lies within the smallest
+    # separation s of a pick, so n discs of radius s + half a cell diagonal
+    # cover the sampled region: s >= sqrt(area / (n pi)) - step / sqrt(2).
+    # The region is the usable map eroded by the 5 mm margin (SciPy's
+    # binary erosion as the reference).
+    wmap = workspace_map(arm, cells=150)
+    region = ndimage.binary_erosion(wmap.usable, iterations=int(np.ceil(5.0 / wmap.step)))
+    area = region.sum() * wmap.step ** 2
+    assert d.min() >= np.sqrt(area / (12 * np.pi)) - wmap.step / np.sqrt(2)
 
 
 def test_seed_changes_the_targets_reproducibly():
