@@ -6,7 +6,7 @@ from ..errors import InkreachError
 from ..motion import trapezoid_time
 from ._search import default_budget, improve_path
 from .stats import travel_stats
-from .strokes import Route, _as_strokes, _Items
+from .strokes import Route, _as_strokes, _check_pair, _Items
 
 __all__ = ["pen_up_time", "reorder_joint_space"]
 
@@ -22,12 +22,7 @@ def _angles(arm, points):
 
 
 def _start(start_q):
-    if start_q is None:
-        return None
-    q = np.asarray(start_q, dtype=float).reshape(-1)
-    if q.shape != (2,) or not np.all(np.isfinite(q)):
-        raise InkreachError("start_q must be two finite joint angles in radians, or None")
-    return q
+    return _check_pair(start_q, "start_q must be two finite joint angles in radians, or None")
 
 
 def pen_up_time(strokes, arm, start_q=None):

@@ -262,13 +262,18 @@ class _Items:
         return moved, new
 
 
-def _check_start(start):
-    if start is None:
+def _check_pair(value, message):
+    """``value`` as two finite floats, None as None; else InkreachError(message)."""
+    if value is None:
         return None
-    s = np.asarray(start, dtype=float).reshape(-1)
+    s = np.asarray(value, dtype=float).reshape(-1)
     if s.shape != (2,) or not np.all(np.isfinite(s)):
-        raise InkreachError("start must be a finite point (x, y); pass two numbers or None")
+        raise InkreachError(message)
     return s
+
+
+def _check_start(start):
+    return _check_pair(start, "start must be a finite point (x, y); pass two numbers or None")
 
 
 def greedy_order(strokes, start=None):
