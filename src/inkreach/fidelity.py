@@ -20,7 +20,6 @@ WORK_SIDE = 512
 #: Default blur, in pen widths: about the spacing of a hatch (common practice).
 BLUR_PEN_WIDTHS = 3.5
 
-_SHIFT = 4          # sub-pixel bits for OpenCV's drawing calls
 _SSIM_SIGMA = 1.5   # Wang et al. (2004), section III-C
 _SSIM_WIN = 11      # the Gaussian window that sigma implies (skimage: 2*int(3.5*1.5+0.5)+1)
 
@@ -128,31 +127,8 @@ def fidelity_images(drawn_reflectance, target_reflectance, blur_px):
 
 
 def render_coverage(polylines, shape, pen_px, supersample=4):
-    """Ink coverage of polylines drawn with a round pen, by supersampling.
-
-    Parameters
-    ----------
-    polylines : list of array_like, shape (N, 2)
-        Pen paths in pixels, x = column, y = row, pixel centres at whole
-        numbers; a one-point path is a dot.
-    shape : tuple of int
-        ``(H, W)`` of the result.
-    pen_px : float
-        Pen width, pixels.
-    supersample : int, optional
-        Sub-pixels per pixel along each axis.
-
-    Returns
-    -------
-    ndarray, shape (H, W), float32
-        Fraction of each pixel covered by ink, in [0, 1].
-
-    Notes
-    -----
-    OpenCV draws thick lines an odd number of sub-pixels wide, so the pen is
-    drawn at the two odd widths either side of ``pen_px * supersample`` and
-    the coverages are mixed in proportion; that is exact in area wherever
-    lines do not overlap.
+    """Ink coverage of polylines drawn with a round pen (see
+    :func:`inkreach.trace.render_strokes`, which this is).
 
     Examples
     --------
@@ -161,50 +137,8 @@ def render_coverage(polylines, shape, pen_px, supersample=4):
     >>> round(float(cov.sum(axis=0).mean()), 2)   # 3 px of ink down each column
     3.0
     """
-    h, w = int(shape[0]), int(shape[1])
-    pen_px = float(pen_px)
-    ss = max(1, int(supersample))
-    one = float(1 << _SHIFT)
-    paths, dots = [], []
-    for p in polylines:
-        p = np.asarray(p, dtype=float).reshape(-1, 2)
-        p = p[np.all(np.isfinite(p), axis=1)]
-        if len(p) == 0:
-            continue
-        q = np.clip(np.round(((p + 0.5) * ss - 0.5) * one), -(1 << 26), 1 << 26)
-        q = q.astype(np.int32)
-        if np.all(q == q[0]):
-            dots.append(q[0])
-        else:
-            paths.append(q)
-    width = pen_px * ss                      # wanted width, sub-pixels
-    lo = max(1, int(np.floor((width - 1.0) / 2.0)) * 2 + 1)   # odd width at or below
-    if width <= 1.0:
-        pairs = [(1, width)]
-    else:
-        frac = (width - lo) / 2.0
-        pairs = [(lo, 1.0 - frac), (lo + 2, frac)]
-    cov = np.zeros((h, w), np.float32)
-    for odd, weight in pairs:
-        if weight <= 0 or not paths:
-            continue
-        canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
-        # OpenCV draws thickness 2k as a band 2k + 1 sub-pixels wide (1 for 1).
-        cv2.polylines(canvas, paths, False, 255, max(1, odd - 1), cv2.LINE_8, _SHIFT)
-        if ss > 1:
-            canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
-        cov += np.float32(weight / 255.0) * canvas
-    if dots:
-        # a dot is a filled disc of the pen's diameter; OpenCV fills every
-        # sub-pixel centre within the radius, about half a sub-pixel wide
-        canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
-        r = int(round(max(0.5 * width - 0.5, 0.0) * one))
-        for c in dots:
-            cv2.circle(canvas, (int(c[0]), int(c[1])), r, 255, -1, cv2.LINE_8, _SHIFT)
-        if ss > 1:
-            canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
-        cov = np.maximum(cov, canvas.astype(np.float32) / 255.0)
-    return np.clip(cov, 0.0, 1.0)
+    from .trace import render_strokes
+    return render_strokes(polylines, shape, pen_px, supersample=supersample)
 
 
 def drawn_polylines(stream, arm):
