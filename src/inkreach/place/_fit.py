@@ -68,8 +68,7 @@ class _MaskFit:
         return C[: self.shape[0] - kh + 1, : self.shape[1] - kw + 1] < 0.5
 
     def fits(self, poly):
-        F = self.feasible(poly)
-        return F is not None and bool(F.any())
+        return _any(self.feasible(poly))
 
     def translation(self, poly, i, j):
         """Shift (mm) that puts the polygon's footprint at top-left cell (i, j)."""
@@ -122,7 +121,7 @@ def _best_position(fit, poly, conditioning, floor, iters=7):
     (i, j, c) or None
     """
     F = fit.feasible(poly)
-    if F is None or not F.any():
+    if not _any(F):
         return None
     cond = np.nan_to_num(conditioning, nan=-1.0)
     lo, hi = float(floor), 1.0
@@ -130,7 +129,7 @@ def _best_position(fit, poly, conditioning, floor, iters=7):
     for _ in range(iters):
         mid = 0.5 * (lo + hi)
         Fc = fit.feasible(poly, fit.sub(fit.mask & (cond >= mid)))
-        if Fc is not None and Fc.any():
+        if _any(Fc):
             lo, best, best_c = mid, Fc, mid
         else:
             hi = mid

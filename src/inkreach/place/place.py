@@ -5,7 +5,7 @@ from scipy import ndimage
 
 from ..arms import largest_rectangle, workspace_map
 from ..errors import InkreachError
-from ._fit import _MaskFit, _best_level, _best_position, _largest_scale, _scale_bounds
+from ._fit import _MaskFit, _any, _best_level, _best_position, _largest_scale, _scale_bounds
 from ._geometry import (_along, _apply, _boundary_samples, _ccw, _centroid, _convex_hull,
                         _interior_samples, _linear)
 from .placement import Placement
@@ -328,8 +328,7 @@ def _search_isotropic(fit, units, s_max, wmap, arm):
     fb = fit.sub(fit.mask & (cond >= max(floor, c_target - _ISO_SLACK)))
     for f in _ISO_LADDER:
         for k, U in enumerate(units):
-            F = fit.feasible(U * (f * s_max), fb)
-            if F is not None and F.any():
+            if _any(fit.feasible(U * (f * s_max), fb)):
                 pos = _best_position(fit, U * (f * s_max), wmap.conditioning, floor)
                 return k, f * s_max, pos
     # not reached in practice: the last rung fits at c_target by construction
