@@ -49,3 +49,9 @@ def test_order_points_returns_a_permutation(pts, with_start):
 def test_order_points_rejects_a_wrong_shape_with_one_line():
     with pytest.raises(InkreachError, match="shape"):
         order_points(np.zeros((4, 3)))
+
+
+@pytest.mark.parametrize("start", [(np.nan, 0.0), (1.0, 2.0, 3.0)])
+def test_order_points_rejects_a_start_that_is_not_a_finite_point(start):
+    with pytest.raises(InkreachError, match="start"):
+        order_points(np.zeros((4, 2)), start=start)

@@ -6,6 +6,7 @@ from ..errors import InkreachError
 from ._greedy import greedy_path
 from ._nearest import nearest_walk
 from ._search import default_budget, improve_path
+from .strokes import _check_start
 
 __all__ = ["order_points"]
 
@@ -63,8 +64,7 @@ def order_points(points, start=None, time_budget=None):
     n = len(p)
     if n == 0:
         return np.zeros(0, dtype=np.int64)
-    if start is not None:
-        start = np.asarray(start, dtype=float).reshape(2)
+    start = _check_start(start)
     if n < 3:
         order = nearest_walk(p, np.arange(n), np.arange(n), n, start=start)
         return _small_best(p, start, order)
