@@ -4,6 +4,8 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
+from ..trace.simplify import polyline_lengths
+
 __all__ = ["TravelStats", "travel_stats"]
 
 
@@ -70,7 +72,7 @@ def travel_stats(strokes, start=None):
     n = len(strokes)
     if n == 0:
         return TravelStats(0, 0, 0.0, 0.0, 0.0)
-    down = float(sum(np.hypot(*np.diff(s, axis=0).T).sum() for s in strokes if len(s) > 1))
+    down = float(polyline_lengths(strokes).sum())
     first, last = _ends(strokes)
     up = float(np.hypot(*(first[1:] - last[:-1]).T).sum())
     approach = 0.0
