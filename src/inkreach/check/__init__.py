@@ -1,0 +1,10 @@
+"""The independent check of a saved plan folder against an arm.
+
+``check_plan(folder, arm=None)`` reads ``plan.json`` and ``joints.csv`` from
+a plan folder and tests every promise of the stream; ``inkreach check`` and
+``inkreach run`` both call it before anything moves.
+"""
+
+from .plancheck import PlanCheck, check_plan
+
+__all__ = ["PlanCheck", "check_plan"]
