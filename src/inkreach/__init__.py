@@ -1,24 +1,62 @@
 """inkreach: pictures to checked joint-angle streams for two-motor pen arms.
 
+The public names below load on first use (PEP 562), so ``import inkreach``
+stays quick and a command pays only for the libraries it needs.
+
 >>> import inkreach
 >>> arm = inkreach.load_arm("default")
 >>> arm.kind
 'five-bar'
 """
 
-from .arms import (FiveBar, Limits, PenSpec, SerialArm, default_arm, example_arms,
-                   largest_rectangle, load_arm, parse_arm, workspace_map)
+import importlib
+import sys
+import types
+
 from .errors import InkreachError
-from .fidelity import Fidelity, fidelity, plan_fidelity
-from .motion import JointStream, check_stream
-from .plan import Plan, plan
-from .trace import STYLES, load_image, style_options
 
 __version__ = "0.1.0"
 
-__all__ = [
-    "plan", "Plan", "load_arm", "parse_arm", "default_arm", "example_arms", "FiveBar",
-    "SerialArm", "Limits", "PenSpec", "workspace_map", "largest_rectangle", "JointStream",
-    "check_stream", "load_image", "STYLES", "style_options", "fidelity", "Fidelity",
-    "plan_fidelity", "InkreachError", "__version__",
-]
+# public name -> the module that defines it
+_LAZY = {
+    "plan": ".plan", "Plan": ".plan",
+    "load_arm": ".arms", "parse_arm": ".arms", "default_arm": ".arms",
+    "example_arms": ".arms", "FiveBar": ".arms", "SerialArm": ".arms", "Limits": ".arms",
+    "PenSpec": ".arms", "workspace_map": ".arms", "largest_rectangle": ".arms",
+    "JointStream": ".motion", "check_stream": ".motion",
+    "load_image": ".trace", "STYLES": ".trace", "style_options": ".trace",
+    "fidelity": ".fidelity", "Fidelity": ".fidelity", "plan_fidelity": ".fidelity",
+}
+
+__all__ = sorted(_LAZY) + ["InkreachError", "__version__"]
+
+
+def __getattr__(name):
+    try:
+        module = _LAZY[name]
+    except KeyError:
+        raise AttributeError(f"module 'inkreach' has no attribute {name!r}") from None
+    value = getattr(importlib.import_module(module, __name__), name)
+    globals()[name] = value
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(_LAZY))
+
+
+class _Package(types.ModuleType):
+    """Keeps ``inkreach.plan`` and ``inkreach.fidelity`` the functions.
+
+    Importing the submodules of the same names would otherwise rebind the
+    package attributes to the modules.
+    """
+
+    def __setattr__(self, name, value):
+        if (name in _LAZY and isinstance(value, types.ModuleType)
+                and value.__name__ == f"{__name__}.{name}"):
+            return
+        super().__setattr__(name, value)
+
+
+sys.modules[__name__].__class__ = _Package
