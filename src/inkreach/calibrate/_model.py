@@ -15,17 +15,17 @@ from ..signals.correction import angle_correction, from_commanded
 
 __all__ = []
 
-_FIVEBAR = (
-    ("left_motor_x", "motors"), ("left_motor_y", "motors"),
-    ("right_motor_x", "motors"), ("right_motor_y", "motors"),
-    ("left_upper", "lengths"), ("right_upper", "lengths"),
-    ("left_lower", "lengths"), ("right_lower", "lengths"),
-    ("pen_extension", "pen_extension"),
-)
-_SERIAL = (
-    ("shoulder_x", "motors"), ("shoulder_y", "motors"),
-    ("upper", "lengths"), ("lower", "lengths"),
-)
+# The geometry fields of each kind in parameter-vector order: (arm field,
+# whether it is an (x, y) pair, group). Names, the vector and the corrected
+# arm are all read from this one table.
+_GEOMETRY = {
+    "five-bar": (("left_motor", True, "motors"), ("right_motor", True, "motors"),
+                 ("left_upper", False, "lengths"), ("right_upper", False, "lengths"),
+                 ("left_lower", False, "lengths"), ("right_lower", False, "lengths"),
+                 ("pen_extension", False, "pen_extension")),
+    "serial": (("shoulder", True, "motors"), ("upper", False, "lengths"),
+               ("lower", False, "lengths")),
+}
 _ANGLES = (("offset1", "offsets"), ("offset2", "offsets"),
            ("scale1", "scales"), ("scale2", "scales"))
 GROUPS = ("lengths", "motors", "pen_extension", "offsets", "scales")
@@ -33,20 +33,21 @@ GROUPS = ("lengths", "motors", "pen_extension", "offsets", "scales")
 
 def param_spec(arm):
     """Names and groups of the model parameters of an arm, in vector order."""
-    geo = _FIVEBAR if arm.kind == "five-bar" else _SERIAL
-    names = tuple(n for n, _ in geo + _ANGLES)
-    groups = tuple(g for _, g in geo + _ANGLES)
+    geo = []
+    for field, pair, group in _GEOMETRY[arm.kind]:
+        geo += [(f"{field}_x", group), (f"{field}_y", group)] if pair else [(field, group)]
+    names = tuple(n for n, _ in geo + list(_ANGLES))
+    groups = tuple(g for _, g in geo + list(_ANGLES))
     return names, groups
 
 
 def to_vector(arm):
     """The arm's parameter vector (its existing calibration included)."""
     off, sc = angle_correction(arm)
-    if arm.kind == "five-bar":
-        geo = [*arm.left_motor, *arm.right_motor, arm.left_upper, arm.right_upper,
-               arm.left_lower, arm.right_lower, arm.pen_extension]
-    else:
-        geo = [*arm.shoulder, arm.upper, arm.lower]
+    geo = []
+    for field, pair, _ in _GEOMETRY[arm.kind]:
+        value = getattr(arm, field)
+        geo += list(value) if pair else [value]
     return np.array([*geo, *off, *sc], dtype=float)
 
 
@@ -67,12 +68,10 @@ def predict(arm, v, q):
 def corrected_arm(arm, v):
     """The arm with the geometry of ``v`` and its angle correction in the hardware."""
     v = np.asarray(v, float)
-    if arm.kind == "five-bar":
-        kw = dict(left_motor=(float(v[0]), float(v[1])), right_motor=(float(v[2]), float(v[3])),
-                  left_upper=float(v[4]), right_upper=float(v[5]), left_lower=float(v[6]),
-                  right_lower=float(v[7]), pen_extension=float(v[8]))
-    else:
-        kw = dict(shoulder=(float(v[0]), float(v[1])), upper=float(v[2]), lower=float(v[3]))
+    kw, i = {}, 0
+    for field, pair, _ in _GEOMETRY[arm.kind]:
+        kw[field] = (float(v[i]), float(v[i + 1])) if pair else float(v[i])
+        i += 2 if pair else 1
     hw = dict(arm.hardware or {})
     hw["calibration"] = {"offset_deg": [float(x) for x in np.rad2deg(v[-4:-2])],
                          "scale": [float(x) for x in v[-2:]]}
