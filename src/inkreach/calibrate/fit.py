@@ -60,18 +60,34 @@ class CalibrationFit:
     params: dict
     stderr: dict
     fixed: tuple
-    offset_deg: tuple
-    scale: tuple
     rms_before: float
     rms_after: float
     residuals_before: np.ndarray
     residuals_after: np.ndarray
-    max_before: float
-    max_after: float
     warnings: list = field(default_factory=list)
     n_points: int = 0
     dof: int = 0
     sigma: float = float("nan")
+
+    @property
+    def offset_deg(self):
+        """Motor angle offsets, degrees (as in ``arm.hardware["calibration"]``)."""
+        return tuple(self.arm.hardware["calibration"]["offset_deg"])
+
+    @property
+    def scale(self):
+        """Motor angle scales (as in ``arm.hardware["calibration"]``)."""
+        return tuple(self.arm.hardware["calibration"]["scale"])
+
+    @property
+    def max_before(self):
+        """Largest dot error before the fit, mm."""
+        return float(np.max(self.residuals_before))
+
+    @property
+    def max_after(self):
+        """Largest dot error after the fit, mm."""
+        return float(np.max(self.residuals_after))
 
 
 def fit_arm(arm, q, xy, *, fit=("lengths", "motors", "pen_extension", "offsets", "scales"),
@@ -260,14 +276,10 @@ def fit_arm(arm, q, xy, *, fit=("lengths", "motors", "pen_extension", "offsets",
     params = {_label(nm): _display(nm, val) for nm, val in zip(names, v)}
     stderr = {_label(names[i]): _display(names[i], s) for i, s in zip(idx, se)}
     fixed = tuple(_label(nm) for nm, f in zip(names, free) if not f)
-    out_arm = _model.corrected_arm(arm, v)
-    cal = out_arm.hardware["calibration"]
     return CalibrationFit(
-        arm=out_arm, params=params, stderr=stderr, fixed=fixed,
-        offset_deg=tuple(cal["offset_deg"]), scale=tuple(cal["scale"]),
+        arm=_model.corrected_arm(arm, v), params=params, stderr=stderr, fixed=fixed,
         rms_before=float(np.sqrt(np.mean(d_before ** 2))), rms_after=rms_after,
         residuals_before=d_before, residuals_after=d_after,
-        max_before=float(np.max(d_before)), max_after=float(np.max(d_after)),
         warnings=warnings, n_points=n, dof=int(dof),
         sigma=float(np.sqrt(s2)) if sigma is None else float(np.mean(1.0 / w)))
 
