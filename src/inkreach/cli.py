@@ -256,7 +256,7 @@ def _cmd_demo(args):
 
 def _cmd_arm(args):
     from .plan import resolve_arm
-    from .report import arm_report
+    from .arms.report import arm_report
 
     _check_out_dir(args.out)
     arm = resolve_arm(args.arm)
@@ -293,7 +293,7 @@ def _cmd_serve(args):
 
 
 def _cmd_calibrate(args):
-    from .calibrate_cli import run_calibrate
+    from .calibrate.cli import run_calibrate
     return run_calibrate(args)
 
 

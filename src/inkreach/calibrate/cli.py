@@ -2,17 +2,17 @@
 
 import os
 
-from .errors import InkreachError
+from ..errors import InkreachError
 
 __all__ = ["run_calibrate"]
 
 
 def run_calibrate(args):
     """Run one calibration step from parsed command-line arguments."""
-    from . import calibrate as cal
-    from .arms import arm_to_toml
-    from .export import SAFETY_TEXT, firmware_header, joints_csv, write_files
-    from .plan import resolve_arm
+    from .. import calibrate as cal
+    from ..arms import arm_to_toml
+    from ..export import SAFETY_TEXT, firmware_header, joints_csv, write_files
+    from ..plan import resolve_arm
 
     arm = resolve_arm(args.arm)
     if args.step == "sheet":

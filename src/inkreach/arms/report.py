@@ -5,8 +5,8 @@ import json
 
 import numpy as np
 
-from .arms import largest_rectangle, workspace_map
-from .errors import InkreachError
+from ..errors import InkreachError
+from .workspace import largest_rectangle, workspace_map
 
 __all__ = ["arm_report"]
 
@@ -43,7 +43,7 @@ def arm_report(arm, cells=400):
        workspace of planar 5R symmetrical parallel mechanisms", Mechanism and
        Machine Theory 41(2), 2006.
     """
-    from .export import arm_map_png
+    from ..export import arm_map_png
 
     wmap = workspace_map(arm, cells=cells)
     if not wmap.usable.any():
