@@ -88,8 +88,11 @@ def _add_plan_options(p):
                    help="where to put the drawing: as large as possible, or around the "
                         "arm's best-conditioned point (default largest)")
     p.add_argument("--upright", action="store_true",
-                   help="never rotate the drawing (by default a few tilts are tried and "
-                        "the largest fit is kept)")
+                   help="never rotate the drawing (the default; kept for older scripts)")
+    p.add_argument("--tilt", action="store_true",
+                   help="also try tilting the drawing by up to 30 degrees or a quarter turn "
+                        "and keep a tilt that draws larger; the figures then say how to "
+                        "lay the paper")
     p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
                    help="how far a drawn line may stray from straight, mm (default 0.05)")
     p.add_argument("--period", type=float, default=0.02, metavar="S",
@@ -217,6 +220,8 @@ def _plan_kwargs(args):
                 signals=args.signals)
     if args.upright:
         opts["rotations"] = [0.0]
+    elif args.tilt:
+        opts["tilt"] = True
     return opts
 
 
