@@ -174,7 +174,9 @@ def build_parser():
                         "serial arm)")
     c.add_argument("--out", "-o", default="inkreach-calibration", metavar="DIR")
 
-    sub.add_parser("styles", help="list the drawing styles and their options")
+    st = sub.add_parser("styles", help="list the drawing styles and their options")
+    st.add_argument("--format", choices=("table", "json"), default="table",
+                    help="plain text or JSON (default table)")
     return top
 
 
@@ -303,11 +305,16 @@ def _cmd_calibrate(args):
 
 
 def _cmd_styles(args):
-    from .trace import style_options
-    for name in _STYLES:
-        print(name)
-        for opt, (default, help_) in style_options(name).items():
-            print(f"  {opt:<14} default {default!r:<10} {help_}")
+    from .trace import style_catalogue
+    table = style_catalogue()
+    if getattr(args, "format", "table") == "json":
+        print(json.dumps({"styles": table}, indent=2))
+        return 0
+    for style in table:
+        print(f"{style['name']}  (draws {style['renders']})")
+        for o in style["options"]:
+            label = o["label"] + (f" ({o['unit']})" if o["unit"] else "")
+            print(f"  {o['name']:<12} {label:<34} default {o['default']!r:<8} {o['help']}")
     return 0
 
 

@@ -380,7 +380,7 @@ def arm_map_png(arm, wmap, rectangles=(), size=800):
         text += f"{r.width:.0f} x {r.height:.0f} mm"
         x, y = cv.px(np.array([r.x0, r.y0 + r.height]))
         draw.text((x + 4, y + 3), text, fill=(160, 40, 35), font=font)
-    rows = [("usable area", f"{wmap.usable_area / 100:.0f} cm2"),
+    rows = [("usable area", f"{wmap.usable_area / 100:.0f} cm²"),
             ("conditioning floor", f"{arm.limits.min_conditioning:.2f}")]
     _figures_panel(img, draw, f"{arm.name} ({arm.kind})", rows, px)
     _colour_bar(img, draw, arm.limits.min_conditioning, px)
