@@ -4,6 +4,7 @@ import numpy as np
 from PIL import Image
 
 from ..errors import InkreachError
+from ..trace.simplify import simplify_polylines
 from .coverage import stroke_coverage
 
 __all__ = ["simulated_png", "pen_down_paths", "auto_px_per_mm", "encode_srgb8", "MARGIN_MM"]
@@ -11,6 +12,7 @@ __all__ = ["simulated_png", "pen_down_paths", "auto_px_per_mm", "encode_srgb8", 
 #: Blank paper around the ink in the simulated drawing, mm (on every side).
 MARGIN_MM = 2.0
 
+_SIMPLIFY_PX = 0.02  # Douglas-Peucker tolerance on the pen path, px
 _MAX_SIDE_PX = 12000
 _AUTO_SIDE_PX = 2000  # longest side of an automatically sized picture ...
 _AUTO_PEN_PX = 3.0  # ... which draws the pen this wide when it fits ...
@@ -188,6 +190,9 @@ def simulated_png(paths, pen=None, pen_width_mm=None, *, px_per_mm=None, bounds=
         q[:, 0] = (s[:, 0] - left) * ppm - 0.5   # pixel centres at whole numbers
         q[:, 1] = (top - s[:, 1]) * ppm - 0.5    # +y up on the page
         px.append(q)
+    # points that lie within 1/50 px of the line through their neighbours add
+    # nothing visible; dropping them makes long straight runs one segment
+    px = simplify_polylines(px, _SIMPLIFY_PX)
     cov = stroke_coverage(px, (H, W), w_mm * ppm)
     img = Image.fromarray(encode_srgb8(1.0 - cov))
     img.info["dpi"] = (ppm * 25.4, ppm * 25.4)
