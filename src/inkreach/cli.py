@@ -339,22 +339,25 @@ def _figures_table(result, written):
         ("strokes", f"{st['strokes']}"),
         ("pen lifts", f"{st['pen_lifts']}"),
         ("pen-down length", f"{st['pen_down_mm'] / 1000:.2f} m"),
-        ("pen-up length", f"{st['pen_up_mm'] / 1000:.2f} m"),
+        ("pen-up travel", f"{st['pen_up_mm'] / 1000:.2f} m"),
         ("drawing time", f"{_fmt_time(st['estimated_s'])} (drawing {_fmt_time(st['pen_down_s'])},"
                          f" pen-up travel {_fmt_time(st['pen_up_s'])}, lifting and lowering "
                          f"{_fmt_time(st['lift_dwell_s'])})"),
         ("drawing size", f"{st['drawing_mm'][0]:.1f} × {st['drawing_mm'][1]:.1f} mm at "
-                         f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm,"
-                         f" rotated {st['rotation_deg']:.0f}°"),
+                         f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm"
+                         + (f", tilted {st['rotation_deg']:.0f}°" if st.get("paper_note")
+                            else ", upright")),
         ("worst conditioning", f"{st['min_conditioning']:.3f} (floor "
                                f"{result.arm.limits.min_conditioning:g})"),
     ]
     if "signal_rounding_mm" in st:
         rows.append(("signal rounding", f"at most {st['signal_rounding_mm']:.3f} mm at the pen "
                                         f"({', '.join(result.signals)})"))
+    if st.get("paper_note"):
+        rows.append(("paper", st["paper_note"]))
     if "fidelity" in st:
-        f = st["fidelity"]
-        rows.append(("fidelity", f"SSIM {f['ssim']:.3f}, tone error {f['tone_error']:.3f}"))
+        from .export import likeness_text
+        rows.append(("likeness", likeness_text(st["fidelity"])))
     rows.append(("stream", f"{st['rows']} rows every {st['period_s'] * 1000:g} ms, all checked"))
     width = max(len(k) for k, _ in rows)
     out = [f"  {k:<{width}}  {v}" for k, v in rows]

@@ -70,11 +70,15 @@ class Plan:
         """2 x 3 affine taking an input pixel (column, row) to arm mm."""
         return np.asarray(self.placement.matrix, dtype=float)
 
-    def preview(self, size=900):
-        """The preview picture (a Pillow image, so it shows in a notebook)."""
+    def preview(self, size=900, view="ink"):
+        """The preview picture (a Pillow image, so it shows in a notebook).
+
+        ``view="ink"`` shows the drawing as the pen inks it; ``"order"``
+        colours the strokes by drawing order, with the pen-up travel.
+        """
         from .export import preview_png
         return preview_png(self.strokes, arm=self.arm, wmap=self.workspace,
-                           stream=self.stream, stats=self.stats, size=size)
+                           stream=self.stream, stats=self.stats, size=size, view=view)
 
     def simulated(self):
         """What the arm will really draw, from the angles the motors reach."""
@@ -96,6 +100,7 @@ class Plan:
                                               placement_hull=self.placement.hull,
                                               stats=self.stats),
             "preview.png": png(self.preview()),
+            "order.png": png(self.preview(view="order")),
             "simulated.png": png(self.simulated()),
             "SAFETY.txt": export.SAFETY_TEXT + "\n",
         }

@@ -1,6 +1,7 @@
 """Writers: plan.json, joints.csv, signal CSVs, previews and the firmware header."""
 
 from ._colour import conditioning_ramp, order_ramp
+from ._scene import likeness_text
 from .files import atomic_write, png_bytes, write_files
 from .firmware import firmware_header
 from .picture import arm_map_png, preview_png
@@ -16,5 +17,5 @@ __all__ = [
     "joints_csv", "servo_csv", "stepper_csv", "JOINTS_HEADER", "firmware_header",
     "simulated_png", "pen_down_paths", "auto_px_per_mm", "encode_srgb8", "MARGIN_MM",
     "stroke_coverage", "preview_svg", "preview_png", "arm_map_png",
-    "order_ramp", "conditioning_ramp",
+    "order_ramp", "conditioning_ramp", "likeness_text",
 ]
