@@ -240,3 +240,16 @@ def test_preview_png_of_a_large_size_stays_within_a_few_canvases_of_memory(arm, 
     tracemalloc.stop()
     canvas = img.size[0] * img.size[1] * 3
     assert peak < 6 * canvas
+
+
+def test_preview_svg_puts_the_figures_below_the_drawing(arm, wmap):
+    # SVG 1.1 parsed with ElementTree: the figures' box starts below every stroke point
+    # (page y grows downwards; the strokes' group is flipped, so page y = -arm y).
+    import xml.etree.ElementTree as ET
+    svg = ET.fromstring(preview_svg(_strokes(), arm=arm, wmap=wmap, stats=STATS).encode())
+    ns = {"s": "http://www.w3.org/2000/svg"}
+    box = svg.find(".//s:g[@class='figures']/s:rect", ns)
+    lowest = max(-p[:, 1].min() for p in _strokes())
+    assert float(box.get("y")) > lowest
+    vb = [float(v) for v in svg.get("viewBox").split()]
+    assert float(box.get("y")) + float(box.get("height")) <= vb[1] + vb[3] + 1e-6

@@ -11,7 +11,7 @@ import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
 from ..errors import InkreachError
-from ._colour import conditioning_ramp, order_ramp
+from ._colour import USABLE_TINT, conditioning_ramp, order_ramp, usable_colour
 from ._scene import (as_strokes, bounds, figure_rows, figure_title, linkage, nice_length,
                      outlines, overlap, posture, travel_moves)
 from .coverage import stroke_coverage
@@ -26,7 +26,7 @@ _BELOW_FLOOR = (241, 240, 236)  # reachable, but under the conditioning floor
 _EDGE = (92, 146, 114)  # usable region's boundary
 _TRAVEL = (120, 128, 140)
 _LINK = (118, 124, 134)
-_TINT = 0.30  # how much of the conditioning colour shows in the usable region
+_TINT = USABLE_TINT  # how much of the conditioning colour shows in the usable region
 _ORDER_LEVELS = 64  # colour buckets for the drawing order: one cv2 call each
 
 
@@ -409,7 +409,7 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900, view="
         _ink(cv, strokes, arm.pen.width_mm)
     scene, _ = cv.image()
     px = max(11, min(scene.width, scene.height) // 50)
-    tint = tuple(int(v) for v in np.rint(0.55 * 255 + 0.45 * conditioning_ramp(0.85)))
+    tint = tuple(int(v) for v in usable_colour(0.85))
     key = [("swatch", tint, "usable region, bluer = better conditioned"),
            ("swatch", _BELOW_FLOOR, "reachable, under the conditioning floor")]
     if view == "order":

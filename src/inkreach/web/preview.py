@@ -171,13 +171,11 @@ def preview_data(plan, max_points=8000):
     if arm is not None:
         ws["motors"] = _points(arm, ("left_motor", "right_motor", "shoulder"))
     from ..export import likeness_text
-    from ..export._colour import hex_colour, order_ramp
-    from ..export.picture import _TINT, _TRAVEL
-    from ..export._colour import conditioning_ramp
+    from ..export._colour import hex_colour, order_ramp, usable_colour
+    from ..export.picture import _TRAVEL
 
-    usable = np.rint((1 - _TINT) * 255.0 + _TINT * conditioning_ramp(0.85).astype(float))
     colours = {"order": [hex_colour(c) for c in order_ramp(np.linspace(0.0, 1.0, 64))],
-               "usable": hex_colour(usable), "travel": hex_colour(_TRAVEL)}
+               "usable": hex_colour(usable_colour()), "travel": hex_colour(_TRAVEL)}
     stats = getattr(plan, "stats", None) or {}
     return {"strokes": strokes, "truncated": bool(truncated), "workspace": ws,
             "colours": colours, "likeness": likeness_text(stats.get("fidelity"))}
