@@ -166,22 +166,6 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
                   font=small)
 
 
-def _key(img, draw, items, px):
-    """A small key bottom left: (kind, colour, text) with kind "swatch" or "line"."""
-    small = _font(px - 2)
-    lh, sw = int(px * 1.35), int(px * 1.1)
-    x, y = 16, img.height - 16 - lh * len(items)
-    for kind, colour, text in items:
-        cy = y + lh // 2
-        if kind == "swatch":
-            draw.rounded_rectangle([x, cy - sw // 2 + 1, x + sw, cy + sw // 2 - 1], radius=2,
-                                   fill=colour, outline=(196, 200, 206))
-        else:
-            draw.line([(x, cy), (x + sw, cy)], fill=colour, width=2)
-        draw.text((x + sw + 6, cy - px // 2), text, fill=_MUTED, font=small)
-        y += lh
-
-
 def _scale_bar(img, draw, scale, px=12):
     """A scale bar of a round length in mm, bottom right."""
     span_mm = img.width / scale

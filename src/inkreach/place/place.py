@@ -250,8 +250,9 @@ def paper_note(rotation_deg):
     --------
     >>> paper_note(0.0) is None
     True
-    >>> paper_note(-20.0)
-    'tilted 20° clockwise: lay the paper turned 20° clockwise from square to the base (seen from above, motors nearest you)'
+    >>> print(paper_note(-20.0))  # doctest: +NORMALIZE_WHITESPACE
+    tilted 20° clockwise: lay the paper turned 20° clockwise from square to the base
+    (seen from above, motors nearest you)
     """
     d = float(rotation_deg)
     if abs(d) < 0.05:
