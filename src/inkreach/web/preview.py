@@ -154,7 +154,7 @@ def preview_data(plan, max_points=8000):
         ``workspace`` with ``usable`` and ``reach`` outlines, ``extent``
         ``[xmin, xmax, ymin, ymax]`` and the ``motors`` positions;
         ``colours``, the exported previews' colours (``order``: 64 steps
-        of the drawing-order ramp, ``usable``, ``travel``) so the page looks
+        of the drawing-order ramp, ``usable``, ``edge``, ``travel``) so the page looks
         the same; and ``likeness``, the likeness figures as one text, worded
         as in the previews and the printed table.
     """
@@ -172,10 +172,11 @@ def preview_data(plan, max_points=8000):
         ws["motors"] = _points(arm, ("left_motor", "right_motor", "shoulder"))
     from ..export import likeness_text
     from ..export._colour import hex_colour, order_ramp, usable_colour
-    from ..export.picture import _TRAVEL
+    from ..export.picture import _EDGE, _TRAVEL
 
     colours = {"order": [hex_colour(c) for c in order_ramp(np.linspace(0.0, 1.0, 64))],
-               "usable": hex_colour(usable_colour()), "travel": hex_colour(_TRAVEL)}
+               "usable": hex_colour(usable_colour()), "edge": hex_colour(_EDGE),
+               "travel": hex_colour(_TRAVEL)}
     stats = getattr(plan, "stats", None) or {}
     return {"strokes": strokes, "truncated": bool(truncated), "workspace": ws,
             "colours": colours, "likeness": likeness_text(stats.get("fidelity"))}

@@ -281,7 +281,7 @@
 
   // ---- the preview drawing ----------------------------------------------------
   // The exported previews' colours, sent with every plan, so the page looks the same.
-  let COLOURS = { order: ["#2c1e6e", "#b42d28"], usable: "#e7efe2", travel: "#78808c" };
+  let COLOURS = { order: ["#2c1e6e", "#b42d28"], usable: "#d5e8eb", edge: "#5c9272", travel: "#78808c" };
   function setColours(c) {
     if (!c || !Array.isArray(c.order) || c.order.length < 2) return;
     COLOURS = c;
@@ -346,7 +346,7 @@
     g.beginPath();
     (ws.usable || []).forEach((poly) => poly.forEach((p, i) => (i ? g.lineTo(X(p[0]), Y(p[1])) : g.moveTo(X(p[0]), Y(p[1])))));
     g.fillStyle = COLOURS.usable; g.fill("evenodd");
-    (ws.usable || []).forEach((poly) => { path(poly, true); g.strokeStyle = "#9db58f"; g.stroke(); });
+    (ws.usable || []).forEach((poly) => { path(poly, true); g.strokeStyle = COLOURS.edge || "#5c9272"; g.stroke(); });
     (ws.motors || []).forEach((m) => {
       g.beginPath(); g.arc(X(m[0]), Y(m[1]), 5, 0, 2 * Math.PI);
       g.fillStyle = "#1f2b3d"; g.fill();
