@@ -1,12 +1,16 @@
 """Upright by default, as large as the usable region allows; tilting only when asked."""
 
 import functools
+import json
 
 import numpy as np
 import pytest
+from PIL import Image, ImageDraw
 from scipy import ndimage
 
+import inkreach
 from inkreach.arms import default_arm, load_arm, workspace_map
+from inkreach.cli import main
 from inkreach.place import paper_note, place_drawing
 
 ARMS = {"default": default_arm, "wide": lambda: load_arm("wide"),
@@ -80,3 +84,20 @@ def test_a_tilt_is_tried_only_when_asked_and_then_the_paper_note_says_how():
     assert "90°" in note and "lay the paper" in note
     assert paper_note(0.0) is None
     assert "clockwise" in paper_note(-10.0) and "counter" not in paper_note(-10.0)
+
+
+def test_a_tilted_plan_says_how_to_lay_the_paper_in_its_figures(tmp_path):
+
+    pic = tmp_path / "tall.png"
+    img = Image.new("L", (60, 400), 255)
+    ImageDraw.Draw(img).rectangle([5, 5, 54, 394], outline=0, width=3)
+    img.save(pic)
+    upright = inkreach.plan(pic, style="outline", fidelity=False)
+    assert upright.stats["rotation_deg"] == 0.0 and "paper_note" not in upright.stats
+    tilted = inkreach.plan(pic, style="outline", fidelity=False, tilt=True)
+    assert tilted.stats["rotation_deg"] != 0.0
+    assert "lay the paper" in tilted.stats["paper_note"]
+    assert max(tilted.stats["drawing_mm"]) > max(upright.stats["drawing_mm"])
+    out = tmp_path / "out"
+    assert main(["plan", str(pic), "--tilt", "--out", str(out), "--quiet"]) == 0
+    assert "lay the paper" in json.loads((out / "plan.json").read_text())["stats"]["paper_note"]
