@@ -253,3 +253,18 @@ def test_preview_svg_puts_the_figures_below_the_drawing(arm, wmap):
     assert float(box.get("y")) > lowest
     vb = [float(v) for v in svg.get("viewBox").split()]
     assert float(box.get("y")) + float(box.get("height")) <= vb[1] + vb[3] + 1e-6
+
+
+def test_arm_map_writes_square_centimetres_as_cm_squared(monkeypatch):
+    from inkreach.export import picture
+    seen = []
+    real = picture._figures_panel
+    monkeypatch.setattr(picture, "_figures_panel",
+                        lambda img, draw, title, rows, px, **kw: (seen.extend(rows),
+                                                                  real(img, draw, title, rows,
+                                                                       px, **kw)))
+    arm = load_arm("default")
+    arm_map_png(arm, workspace_map(arm, cells=60), size=300)
+    area = dict(seen)["usable area"]
+    assert area.endswith(" cm\u00b2") and "cm2" not in area
+    assert [t for t, up in picture._sup_parts(area) if up] == ["2"]   # drawn raised

@@ -109,6 +109,32 @@ def _text_w(draw, s, font):
     return b[2] - b[0]
 
 
+def _sup_parts(s):
+    """``"414 cm²"`` -> [("414 cm", False), ("2", True)]: the default font has no ²."""
+    parts = []
+    for i, piece in enumerate(str(s).split("\u00b2")):
+        if i:
+            parts.append(("2", True))
+        if piece:
+            parts.append((piece, False))
+    return parts
+
+
+def _sup_w(draw, s, font):
+    small = _font(font.size * 0.65)
+    return sum(_text_w(draw, t, small if up else font) for t, up in _sup_parts(s))
+
+
+def _sup_text(draw, xy, s, font, fill):
+    """Text with every ² drawn as a small raised 2."""
+    x, y = xy
+    small = _font(font.size * 0.65)
+    for t, up in _sup_parts(s):
+        f = small if up else font
+        draw.text((x, y - (font.size * 0.15 if up else 0)), t, fill=fill, font=f)
+        x += _text_w(draw, t, f)
+
+
 def _soft_box(img, box, radius, fill=(255, 255, 255), opacity=0.9, outline=(214, 218, 223)):
     """A rounded, slightly see-through box on ``img`` (in place)."""
     x0, y0, x1, y1 = (int(round(v)) for v in box)
@@ -137,7 +163,7 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
     font, small = _font(px), _font(px - 2)
     pad, lh, gap = int(px * 0.7), int(px * 1.4), int(px * 1.2)
     lw = max([_text_w(draw, k, small) for k, _ in rows] + [0])
-    vw = max([_text_w(draw, v, font) for _, v in rows] + [0])
+    vw = max([_sup_w(draw, v, font) for _, v in rows] + [0])
     w = max(lw + gap + vw, _text_w(draw, title, font), 8 * px) + 2 * pad
     h = pad + lh + int(px * 0.35) + lh * len(rows) + (int(px * 2.6) if order_bar else 0) + pad
     x, y = 10, 10
@@ -152,7 +178,7 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
               fill=(226, 229, 233), width=1)
     for k, v in rows:
         draw.text((x + pad, yy + 2), k, fill=_MUTED, font=small)
-        draw.text((x + w - pad - _text_w(draw, v, font), yy), v, fill=_INK, font=font)
+        _sup_text(draw, (x + w - pad - _sup_w(draw, v, font), yy), v, font, _INK)
         yy += lh
     if order_bar:
         bw, bh = w - 2 * pad, max(5, px // 2)
