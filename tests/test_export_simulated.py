@@ -148,3 +148,16 @@ def test_pen_up_rows_leave_no_ink_on_the_paper():
     assert a[:int(20 * 5)].min() == 255          # nothing above y = 5 mm: the detour is dry
     assert a[int(24 * 5):].min() < 60            # the two pen-down pieces are inked
     assert a[int(24 * 5):, int(20 * 5):int(25 * 5)].min() == 255   # and not joined
+
+
+@settings(max_examples=20, deadline=None)
+@given(pts=st.lists(st.tuples(st.floats(0, 30), st.floats(0, 30)), min_size=2, max_size=12),
+       cut=st.integers(1, 11), pen=st.floats(0.8, 5.0))
+def test_more_ink_never_lightens_a_pixel_and_coverage_stays_within_0_and_1(pts, cut, pen):
+    # Invariant of a union: adding strokes can only ink more of every pixel.
+    p = np.array(pts, float)
+    a, b = p[:min(cut, len(p) - 1) + 1], p[min(cut, len(p) - 1):]
+    one = stroke_coverage([a], (32, 32), pen)
+    both = stroke_coverage([a, b], (32, 32), pen)
+    assert one.min() >= 0 and both.max() <= 1
+    assert (both >= one - 1e-6).all()
