@@ -390,7 +390,7 @@ def section_drawing(cfg, results):
                 fid, t_fid = {"ssim": _na(exc), "tone_error": "—"}, "—"
             rows.append([st, s["strokes"], s["pen_lifts"], s["pen_down_mm"], s["pen_up_mm"],
                          s["estimated_s"], s["pen_down_s"], s["pen_up_s"], s["lift_dwell_s"],
-                         fid["ssim"], fid["tone_error"], t_fid])
+                         fid.get("ssim", "—"), fid.get("tone_error", "—"), t_fid])
         except Exception as exc:  # noqa: BLE001
             rows.append([st, _na(exc)] + ["—"] * 10)
     return ("The demo still life (960x720) on the default arm, one plan per style. Times "

@@ -24,12 +24,12 @@ def test_plan_prints_the_figures_and_writes_the_files(emblem_png, tmp_path, caps
     out = tmp_path / "out"
     assert main(["plan", str(emblem_png), "--style", "centerline", "--out", str(out)]) == 0
     text = capsys.readouterr().out
-    for words in ("strokes", "pen lifts", "pen-down length", "pen-up length", "drawing time",
-                  "drawing size", "worst conditioning", "fidelity", "plan.json"):
+    for words in ("strokes", "pen lifts", "pen-down length", "pen-up travel", "drawing time",
+                  "drawing size", "worst conditioning", "likeness", "plan.json"):
         assert words in text
     names = set(os.listdir(out))
-    assert {"plan.json", "joints.csv", "preview.svg", "preview.png", "simulated.png",
-            "plan.h", "SAFETY.txt"} <= names
+    assert {"plan.json", "joints.csv", "preview.svg", "preview.png", "order.png",
+            "simulated.png", "plan.h", "SAFETY.txt"} <= names
 
 
 def test_plan_json_format_is_for_scripts(emblem_png, tmp_path, capsys):

@@ -73,10 +73,10 @@ def test_preview_svg_without_arm_or_strokes_still_parses():
 
 def test_preview_png_opens_with_pillow_and_shows_the_strokes(arm, wmap):
     # Reference: Pillow's PNG decoder reads the bytes back.
-    img = preview_png(_strokes(), arm=arm, wmap=wmap, stats=STATS, size=500)
+    img = preview_png(_strokes(), arm=arm, wmap=wmap, stats=STATS, size=500, view="order")
     back = Image.open(io.BytesIO(png_bytes(img)))
     back.load()
-    assert back.format == "PNG" and back.mode == "RGB" and max(back.size) == 500
+    assert back.format == "PNG" and back.mode == "RGB" and back.width == 500
     a = np.asarray(back).astype(int)
     first = order_ramp(0.0).astype(int)
     # some pixel is close to the first stroke's colour (dark indigo)
@@ -84,10 +84,46 @@ def test_preview_png_opens_with_pillow_and_shows_the_strokes(arm, wmap):
     assert a[0, -1].tolist() == [255, 255, 255]  # white paper in a corner
 
 
+def test_preview_png_shows_ink_first_and_nothing_covers_the_drawing(arm, wmap):
+    # The ink view draws black ink (no order colours); the figures and key go in a
+    # band below the drawing, so the drawing's area is the same with or without them.
+    bare = np.asarray(preview_png(_strokes(), arm=arm, wmap=wmap, size=500)).astype(int)
+    full = np.asarray(preview_png(_strokes(), arm=arm, wmap=wmap, size=500,
+                                  stats={**STATS, "paper_note": "tilted 20° clockwise"}))
+    assert full.shape[0] > bare.shape[0] > 500 * 0.5 and full.shape[1] == 500
+    from inkreach.export.picture import _Canvas
+    cv = _Canvas(_scene_box_for_test(arm, wmap, _strokes()), 500)
+    np.testing.assert_array_equal(full[:cv.H], bare[:cv.H])       # same drawing area
+    u, v = np.rint(cv.px(np.array([15.0, 160.0]))).astype(int)   # on the middle circle
+    patch = full[v - 2:v + 3, u - 2:u + 3].reshape(-1, 3).astype(float)
+    dark = patch[np.argmin(patch.sum(axis=1))]
+    paper = full[v - 12, u].astype(float)                          # the shaded region nearby
+    assert dark.sum() < 0.7 * paper.sum()                          # ink darkens it ...
+    # ... as black ink does: every channel's linear light drops by the same share
+    # (sRGB decoding by the IEC 61966-2-1 formula)
+    def lin(code):
+        c = code / 255
+        return np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+    share = lin(dark) / lin(paper)
+    assert np.ptp(share) < 0.05
+
+
 def test_preview_png_draws_pen_up_rows_of_a_stream(arm, wmap):
+    # The pen-up rows (y below 165 mm here) are drawn where the stream goes: the picture
+    # with the stream differs from the one without it only near those rows.
     s = line_stream(arm, 30, pen=np.arange(30) > 10)
-    img = preview_png([s.xy[11:]], arm=arm, wmap=wmap, stream=s, size=300)
-    assert img.size[0] == 300 or img.size[1] == 300
+    with_rows = np.asarray(preview_png([s.xy[11:]], arm=arm, wmap=wmap, stream=s, size=300,
+                                       view="order")).astype(int)
+    without = np.asarray(preview_png([s.xy[11:]], arm=arm, wmap=wmap, size=300,
+                                     view="order")).astype(int)
+    from inkreach.export.picture import _Canvas
+    cv = _Canvas(_scene_box_for_test(arm, wmap, [s.xy[11:]]), 300)
+    diff = np.abs(with_rows - without).sum(axis=2)[:cv.H] > 30
+    assert diff.sum() > 10
+    path = cv.px(np.linspace(s.xy[0], s.xy[11], 200))
+    rr, cc = np.nonzero(diff)
+    d = np.hypot(cc[:, None] - path[None, :, 0], rr[:, None] - path[None, :, 1]).min(axis=1)
+    assert d.max() <= 3.0
 
 
 def test_png_bytes_are_the_same_for_the_same_picture(arm, wmap):
@@ -164,17 +200,20 @@ def test_figure_rows_name_size_time_conditioning_and_fidelity():
     rows = dict(figure_rows({**STATS, "drawing_mm": [171.06, 128.4], "estimated_s": 783.0,
                              "fidelity": {"ssim": 0.612, "tone_error": 0.081}}))
     assert rows["strokes"] == "4" and rows["pen lifts"] == "3"
-    assert rows["pen down"] == "283 mm" and rows["pen up"] == "95 mm"
+    assert rows["pen-down length"] == "283 mm" and rows["pen-up travel"] == "95 mm"
     assert rows["drawing time"] == "13 min 03 s"
     assert rows["drawing size"] == "171 x 128 mm"
     assert rows["worst conditioning"] == "0.45"
-    assert rows["likeness (SSIM)"] == "0.61" and rows["tone error"] == "0.08"
-    assert "likeness (SSIM)" not in dict(figure_rows(STATS))
+    assert rows["likeness"] == "SSIM 0.61 \u00b7 tone error 0.08"
+    lines = dict(figure_rows({"fidelity": {"measure": "lines", "lines_drawn": 0.9,
+                                           "strokes_on_lines": 0.755}}))
+    assert lines["likeness"] == "lines drawn 90% \u00b7 strokes on lines 76%"
+    assert "likeness" not in dict(figure_rows(STATS))
 
 
 def test_preview_png_shades_the_usable_region_and_draws_pen_up_moves_faint(arm, wmap):
     dots = [np.array([[-40.0, 175.0]]), np.array([[40.0, 175.0]])]
-    img = preview_png(dots, arm=arm, wmap=wmap, size=500)
+    img = preview_png(dots, arm=arm, wmap=wmap, size=500, view="order")
     a = np.asarray(img).astype(int)
     assert (a.reshape(-1, 3) != 255).any(axis=1).mean() > 0.2  # the region is shaded
     from inkreach.export.picture import _Canvas
@@ -201,3 +240,31 @@ def test_preview_png_of_a_large_size_stays_within_a_few_canvases_of_memory(arm, 
     tracemalloc.stop()
     canvas = img.size[0] * img.size[1] * 3
     assert peak < 6 * canvas
+
+
+def test_preview_svg_puts_the_figures_below_the_drawing(arm, wmap):
+    # SVG 1.1 parsed with ElementTree: the figures' box starts below every stroke point
+    # (page y grows downwards; the strokes' group is flipped, so page y = -arm y).
+    import xml.etree.ElementTree as ET
+    svg = ET.fromstring(preview_svg(_strokes(), arm=arm, wmap=wmap, stats=STATS).encode())
+    ns = {"s": "http://www.w3.org/2000/svg"}
+    box = svg.find(".//s:g[@class='figures']/s:rect", ns)
+    lowest = max(-p[:, 1].min() for p in _strokes())
+    assert float(box.get("y")) > lowest
+    vb = [float(v) for v in svg.get("viewBox").split()]
+    assert float(box.get("y")) + float(box.get("height")) <= vb[1] + vb[3] + 1e-6
+
+
+def test_arm_map_writes_square_centimetres_as_cm_squared(monkeypatch):
+    from inkreach.export import picture
+    seen = []
+    real = picture._figures_panel
+    monkeypatch.setattr(picture, "_figures_panel",
+                        lambda img, draw, title, rows, px, **kw: (seen.extend(rows),
+                                                                  real(img, draw, title, rows,
+                                                                       px, **kw)))
+    arm = load_arm("default")
+    arm_map_png(arm, workspace_map(arm, cells=60), size=300)
+    area = dict(seen)["usable area"]
+    assert area.endswith(" cm\u00b2") and "cm2" not in area
+    assert [t for t, up in picture._sup_parts(area) if up] == ["2"]   # drawn raised

@@ -76,11 +76,13 @@ def test_isotropic_preference_trades_some_size_for_better_conditioning():
     assert 0.75 * big.scale <= iso.scale <= big.scale
 
 
-def test_more_rotations_never_give_a_smaller_drawing_and_a_tall_bar_is_turned():
+def test_tilting_never_gives_a_smaller_drawing_and_a_tall_bar_is_turned_only_when_asked():
     arm, wmap = _setup()
     bar = [np.array([[0.0, 0.0], [0.0, 300.0]]), np.array([[20.0, 0.0], [20.0, 300.0]])]
     upright = place_drawing(bar, arm, wmap=wmap, rotations=[0.0])
-    free = place_drawing(bar, arm, wmap=wmap)
+    default = place_drawing(bar, arm, wmap=wmap)
+    free = place_drawing(bar, arm, wmap=wmap, tilt=True)
+    assert default.rotation == 0.0 and np.isclose(default.scale, upright.scale)
     assert free.scale >= upright.scale
     assert np.isclose(abs(free.rotation), np.pi / 2)   # the default arm's region is wide
 

@@ -88,8 +88,11 @@ def _add_plan_options(p):
                    help="where to put the drawing: as large as possible, or around the "
                         "arm's best-conditioned point (default largest)")
     p.add_argument("--upright", action="store_true",
-                   help="never rotate the drawing (by default a few tilts are tried and "
-                        "the largest fit is kept)")
+                   help="never rotate the drawing (the default; kept for older scripts)")
+    p.add_argument("--tilt", action="store_true",
+                   help="also try tilting the drawing by up to 30 degrees or a quarter turn "
+                        "and keep a tilt that draws larger; the figures then say how to "
+                        "lay the paper")
     p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
                    help="how far a drawn line may stray from straight, mm (default 0.05)")
     p.add_argument("--period", type=float, default=0.02, metavar="S",
@@ -171,7 +174,9 @@ def build_parser():
                         "serial arm)")
     c.add_argument("--out", "-o", default="inkreach-calibration", metavar="DIR")
 
-    sub.add_parser("styles", help="list the drawing styles and their options")
+    st = sub.add_parser("styles", help="list the drawing styles and their options")
+    st.add_argument("--format", choices=("table", "json"), default="table",
+                    help="plain text or JSON (default table)")
     return top
 
 
@@ -217,6 +222,8 @@ def _plan_kwargs(args):
                 signals=args.signals)
     if args.upright:
         opts["rotations"] = [0.0]
+    elif args.tilt:
+        opts["tilt"] = True
     return opts
 
 
@@ -298,11 +305,16 @@ def _cmd_calibrate(args):
 
 
 def _cmd_styles(args):
-    from .trace import style_options
-    for name in _STYLES:
-        print(name)
-        for opt, (default, help_) in style_options(name).items():
-            print(f"  {opt:<14} default {default!r:<10} {help_}")
+    from .trace import style_catalogue
+    table = style_catalogue()
+    if getattr(args, "format", "table") == "json":
+        print(json.dumps({"styles": table}, indent=2))
+        return 0
+    for style in table:
+        print(f"{style['name']}  (draws {style['renders']})")
+        for o in style["options"]:
+            label = o["label"] + (f" ({o['unit']})" if o["unit"] else "")
+            print(f"  {o['name']:<12} {label:<34} default {o['default']!r:<8} {o['help']}")
     return 0
 
 
@@ -327,22 +339,25 @@ def _figures_table(result, written):
         ("strokes", f"{st['strokes']}"),
         ("pen lifts", f"{st['pen_lifts']}"),
         ("pen-down length", f"{st['pen_down_mm'] / 1000:.2f} m"),
-        ("pen-up length", f"{st['pen_up_mm'] / 1000:.2f} m"),
+        ("pen-up travel", f"{st['pen_up_mm'] / 1000:.2f} m"),
         ("drawing time", f"{_fmt_time(st['estimated_s'])} (drawing {_fmt_time(st['pen_down_s'])},"
                          f" pen-up travel {_fmt_time(st['pen_up_s'])}, lifting and lowering "
                          f"{_fmt_time(st['lift_dwell_s'])})"),
         ("drawing size", f"{st['drawing_mm'][0]:.1f} × {st['drawing_mm'][1]:.1f} mm at "
-                         f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm,"
-                         f" rotated {st['rotation_deg']:.0f}°"),
+                         f"({st['drawing_origin_mm'][0]:.1f}, {st['drawing_origin_mm'][1]:.1f}) mm"
+                         + (f", tilted {st['rotation_deg']:.0f}°" if st.get("paper_note")
+                            else ", upright")),
         ("worst conditioning", f"{st['min_conditioning']:.3f} (floor "
                                f"{result.arm.limits.min_conditioning:g})"),
     ]
     if "signal_rounding_mm" in st:
         rows.append(("signal rounding", f"at most {st['signal_rounding_mm']:.3f} mm at the pen "
                                         f"({', '.join(result.signals)})"))
+    if st.get("paper_note"):
+        rows.append(("paper", st["paper_note"]))
     if "fidelity" in st:
-        f = st["fidelity"]
-        rows.append(("fidelity", f"SSIM {f['ssim']:.3f}, tone error {f['tone_error']:.3f}"))
+        from .export import likeness_text
+        rows.append(("likeness", likeness_text(st["fidelity"])))
     rows.append(("stream", f"{st['rows']} rows every {st['period_s'] * 1000:g} ms, all checked"))
     width = max(len(k) for k, _ in rows)
     out = [f"  {k:<{width}}  {v}" for k, v in rows]

@@ -270,6 +270,12 @@ def plan_fidelity(plan, image):
     Returns
     -------
     dict
-        ``{"ssim": float, "tone_error": float}``, rounded to 4 decimals.
+        ``{"ssim": float, "tone_error": float}``, rounded to 4 decimals; for
+        a style that renders lines, the line likeness instead (see
+        :mod:`inkreach.fidelity_lines`).
     """
+    from .trace import style_renders
+    if style_renders(plan.style) == "lines":
+        from .fidelity_lines import plan_line_likeness
+        return plan_line_likeness(plan, image)
     return fidelity(plan, image).as_dict(4)

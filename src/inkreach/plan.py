@@ -15,7 +15,7 @@ STAGES = ("arm", "load", "trace", "merge", "place", "route", "motion", "check", 
 
 #: Options of the placement stage, with their defaults.
 PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
-                 "rotations": None}
+                 "rotations": None, "tilt": False}
 #: Options of the motion stage, with their defaults.
 MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
 #: Options of the planner itself.
@@ -70,11 +70,15 @@ class Plan:
         """2 x 3 affine taking an input pixel (column, row) to arm mm."""
         return np.asarray(self.placement.matrix, dtype=float)
 
-    def preview(self, size=900):
-        """The preview picture (a Pillow image, so it shows in a notebook)."""
+    def preview(self, size=900, view="ink"):
+        """The preview picture (a Pillow image, so it shows in a notebook).
+
+        ``view="ink"`` shows the drawing as the pen inks it; ``"order"``
+        colours the strokes by drawing order, with the pen-up travel.
+        """
         from .export import preview_png
         return preview_png(self.strokes, arm=self.arm, wmap=self.workspace,
-                           stream=self.stream, stats=self.stats, size=size)
+                           stream=self.stream, stats=self.stats, size=size, view=view)
 
     def simulated(self):
         """What the arm will really draw, from the angles the motors reach."""
@@ -96,6 +100,7 @@ class Plan:
                                               placement_hull=self.placement.hull,
                                               stats=self.stats),
             "preview.png": png(self.preview()),
+            "order.png": png(self.preview(view="order")),
             "simulated.png": png(self.simulated()),
             "SAFETY.txt": export.SAFETY_TEXT + "\n",
         }
@@ -191,7 +196,7 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     **options
         Style options (see :func:`inkreach.trace.style_options`), placement
         options (``paper=(x0, y0, w, h)``, ``margin``, ``size``, ``prefer``,
-        ``rotations``), motion options (``chord_tol`` mm, ``period`` s,
+        ``rotations``, ``tilt``: also try tilted placements), motion options (``chord_tol`` mm, ``period`` s,
         ``tip_speed`` mm/s) and ``max_side`` (working resolution, px),
         ``joint_order`` (reorder by joint-space time), ``signals``
         (``"auto"``, ``"servo"``, ``"stepper"`` or ``"both"``), ``start``
@@ -228,6 +233,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     if place_opts["margin"] < 0 or not np.isfinite(place_opts["margin"]):
         raise InkreachError("option margin must be zero or more mm")
     place_opts["size"] = _positive("size", place_opts["size"])
+    if not isinstance(place_opts["tilt"], (bool, np.bool_)):
+        raise InkreachError("option tilt must be true or false")
     max_side = int(_positive("max_side", own["max_side"], allow_none=False))
 
     step("arm")
@@ -325,4 +332,8 @@ def _stats(travel, stream, report, placement, arm, style, strokes):
         "max_deviation_mm": round(float(report.max_deviation_mm), 5),
         "arm": arm.name,
     }
+    from .place import paper_note
+    note = paper_note(stats["rotation_deg"])
+    if note:
+        stats["paper_note"] = note
     return stats

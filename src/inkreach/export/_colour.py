@@ -2,7 +2,10 @@
 
 import numpy as np
 
-__all__ = ["order_ramp", "conditioning_ramp", "hex_colour"]
+__all__ = ["order_ramp", "conditioning_ramp", "hex_colour", "usable_colour", "USABLE_TINT"]
+
+#: How much of the conditioning colour shows in the usable region (the rest is white).
+USABLE_TINT = 0.30
 
 # Linear sRGB -> LMS -> OKLab, the matrices published by B. Ottosson, "A
 # perceptual color space for image processing" (2020).
@@ -70,6 +73,21 @@ def order_ramp(t):
 def conditioning_ramp(t):
     """Colours for conditioning, 0 (poor) to 1 (isotropic) -> uint8 sRGB (..., 3)."""
     return _ramp(_COND_ANCHORS, t)
+
+
+def usable_colour(conditioning=0.85):
+    """The usable region's colour at a conditioning: the ramp mixed with white paper.
+
+    The previews shade the region with it; keys, the SVG and the web page use
+    its value at 0.85 as the region's one swatch colour.
+
+    Examples
+    --------
+    >>> hex_colour(usable_colour())
+    '#d5e8eb'
+    """
+    c = conditioning_ramp(conditioning).astype(float)
+    return np.rint((1 - USABLE_TINT) * 255.0 + USABLE_TINT * c).astype(np.uint8)
 
 
 def hex_colour(rgb):

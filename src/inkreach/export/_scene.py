@@ -129,15 +129,16 @@ def _duration(t):
 def figure_rows(stats):
     """The plan's figures for a corner of a preview, as (label, value) text pairs.
 
-    Strokes, pen lifts, pen-down and pen-up length, drawing time, drawing
-    size, worst conditioning and, when ``stats["fidelity"]`` holds them,
-    the likeness (SSIM) and tone error; figures missing from ``stats`` are
+    Strokes, pen lifts, pen-down length, pen-up travel, drawing time,
+    drawing size, worst conditioning, the likeness when
+    ``stats["fidelity"]`` holds it (see :func:`likeness_text`) and how to
+    lay the paper for a tilted drawing; figures missing from ``stats`` are
     left out.
 
     Examples
     --------
     >>> figure_rows({"strokes": 3, "pen_down_mm": 1520.0, "estimated_s": 75.0})
-    [('strokes', '3'), ('pen down', '1.52 m'), ('drawing time', '1 min 15 s')]
+    [('strokes', '3'), ('pen-down length', '1.52 m'), ('drawing time', '1 min 15 s')]
     """
     if not stats:
         return []
@@ -154,7 +155,7 @@ def figure_rows(stats):
     for key, label in (("strokes", "strokes"), ("pen_lifts", "pen lifts")):
         if num(key) is not None:
             rows.append((label, f"{int(num(key))}"))
-    for key, label in (("pen_down_mm", "pen down"), ("pen_up_mm", "pen up")):
+    for key, label in (("pen_down_mm", "pen-down length"), ("pen_up_mm", "pen-up travel")):
         if num(key) is not None:
             rows.append((label, _length(num(key))))
     if num("estimated_s") is not None:
@@ -164,13 +165,51 @@ def figure_rows(stats):
         rows.append(("drawing size", f"{float(size[0]):.0f} x {float(size[1]):.0f} mm"))
     if num("min_conditioning") is not None:
         rows.append(("worst conditioning", f"{num('min_conditioning'):.2f}"))
-    fid = s.get("fidelity")
-    if isinstance(fid, dict):
-        for key, label in (("ssim", "likeness (SSIM)"), ("tone_error", "tone error")):
-            v = fid.get(key)
-            if v is not None and np.isfinite(float(v)):
-                rows.append((label, f"{float(v):.2f}"))
+    text = likeness_text(s.get("fidelity"))
+    if text:
+        rows.append(("likeness", text))
+    if s.get("paper_note"):
+        rows.append(("paper", str(s["paper_note"])))
     return rows
+
+
+# How each likeness figure reads: key -> (words, as a percentage?)
+_LIKENESS_PARTS = {
+    "ssim": ("SSIM", False),
+    "tone_error": ("tone error", False),
+    "lines_drawn": ("lines drawn", True),
+    "strokes_on_lines": ("strokes on lines", True),
+}
+
+
+def likeness_text(fidelity):
+    """One short text of the likeness figures, the same on every surface.
+
+    Tone styles: SSIM and tone error; line styles: the share of the
+    picture's lines drawn and of the strokes on them, in per cent. Other
+    numeric figures are written with their key's words.
+
+    Examples
+    --------
+    >>> likeness_text({"ssim": 0.8312, "tone_error": 0.0512})
+    'SSIM 0.83 · tone error 0.05'
+    >>> likeness_text({"measure": "lines", "lines_drawn": 0.912, "strokes_on_lines": 0.87})
+    'lines drawn 91% · strokes on lines 87%'
+    >>> likeness_text(None)
+    ''
+    """
+    if not isinstance(fidelity, dict):
+        return ""
+    parts = []
+    for key, v in fidelity.items():
+        if isinstance(v, bool) or not isinstance(v, (int, float, np.floating, np.integer)):
+            continue
+        v = float(v)
+        if not np.isfinite(v):
+            continue
+        words, pct = _LIKENESS_PARTS.get(key, (key.replace("_", " "), False))
+        parts.append(f"{words} {v * 100:.0f}%" if pct else f"{words} {v:.2f}")
+    return " \u00b7 ".join(parts)
 
 
 def figure_lines(stats):

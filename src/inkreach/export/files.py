@@ -199,7 +199,9 @@ def png_bytes(image, compress_level=1):
 
     ``compress_level`` 1 is the fastest zlib level: previews are mostly flat
     colour, so it costs little in size and saves most of the encoding time.
+    A resolution in ``image.info["dpi"]`` is written as the ``pHYs`` chunk.
     """
     buf = io.BytesIO()
-    image.save(buf, format="PNG", optimize=False, compress_level=compress_level)
+    extra = {"dpi": image.info["dpi"]} if "dpi" in image.info else {}
+    image.save(buf, format="PNG", optimize=False, compress_level=compress_level, **extra)
     return buf.getvalue()

@@ -11,9 +11,10 @@ import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
 from ..errors import InkreachError
-from ._colour import conditioning_ramp, order_ramp
+from ._colour import USABLE_TINT, conditioning_ramp, order_ramp, usable_colour
 from ._scene import (as_strokes, bounds, figure_rows, figure_title, linkage, nice_length,
                      outlines, overlap, posture, travel_moves)
+from .coverage import stroke_coverage
 
 __all__ = ["preview_png", "arm_map_png"]
 
@@ -25,7 +26,7 @@ _BELOW_FLOOR = (241, 240, 236)  # reachable, but under the conditioning floor
 _EDGE = (92, 146, 114)  # usable region's boundary
 _TRAVEL = (120, 128, 140)
 _LINK = (118, 124, 134)
-_TINT = 0.30  # how much of the conditioning colour shows in the usable region
+_TINT = USABLE_TINT  # how much of the conditioning colour shows in the usable region
 _ORDER_LEVELS = 64  # colour buckets for the drawing order: one cv2 call each
 
 
@@ -108,6 +109,32 @@ def _text_w(draw, s, font):
     return b[2] - b[0]
 
 
+def _sup_parts(s):
+    """``"414 cm²"`` -> [("414 cm", False), ("2", True)]: the default font has no ²."""
+    parts = []
+    for i, piece in enumerate(str(s).split("\u00b2")):
+        if i:
+            parts.append(("2", True))
+        if piece:
+            parts.append((piece, False))
+    return parts
+
+
+def _sup_w(draw, s, font):
+    small = _font(font.size * 0.65)
+    return sum(_text_w(draw, t, small if up else font) for t, up in _sup_parts(s))
+
+
+def _sup_text(draw, xy, s, font, fill):
+    """Text with every ² drawn as a small raised 2."""
+    x, y = xy
+    small = _font(font.size * 0.65)
+    for t, up in _sup_parts(s):
+        f = small if up else font
+        draw.text((x, y - (font.size * 0.15 if up else 0)), t, fill=fill, font=f)
+        x += _text_w(draw, t, f)
+
+
 def _soft_box(img, box, radius, fill=(255, 255, 255), opacity=0.9, outline=(214, 218, 223)):
     """A rounded, slightly see-through box on ``img`` (in place)."""
     x0, y0, x1, y1 = (int(round(v)) for v in box)
@@ -136,7 +163,7 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
     font, small = _font(px), _font(px - 2)
     pad, lh, gap = int(px * 0.7), int(px * 1.4), int(px * 1.2)
     lw = max([_text_w(draw, k, small) for k, _ in rows] + [0])
-    vw = max([_text_w(draw, v, font) for _, v in rows] + [0])
+    vw = max([_sup_w(draw, v, font) for _, v in rows] + [0])
     w = max(lw + gap + vw, _text_w(draw, title, font), 8 * px) + 2 * pad
     h = pad + lh + int(px * 0.35) + lh * len(rows) + (int(px * 2.6) if order_bar else 0) + pad
     x, y = 10, 10
@@ -151,7 +178,7 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
               fill=(226, 229, 233), width=1)
     for k, v in rows:
         draw.text((x + pad, yy + 2), k, fill=_MUTED, font=small)
-        draw.text((x + w - pad - _text_w(draw, v, font), yy), v, fill=_INK, font=font)
+        _sup_text(draw, (x + w - pad - _sup_w(draw, v, font), yy), v, font, _INK)
         yy += lh
     if order_bar:
         bw, bh = w - 2 * pad, max(5, px // 2)
@@ -163,22 +190,6 @@ def _figures_panel(img, draw, title, rows, px, order_bar=False, avoid=None):
         last = "last"
         draw.text((x + w - pad - _text_w(draw, last, small), yy + bh + 3), last, fill=_MUTED,
                   font=small)
-
-
-def _key(img, draw, items, px):
-    """A small key bottom left: (kind, colour, text) with kind "swatch" or "line"."""
-    small = _font(px - 2)
-    lh, sw = int(px * 1.35), int(px * 1.1)
-    x, y = 16, img.height - 16 - lh * len(items)
-    for kind, colour, text in items:
-        cy = y + lh // 2
-        if kind == "swatch":
-            draw.rounded_rectangle([x, cy - sw // 2 + 1, x + sw, cy + sw // 2 - 1], radius=2,
-                                   fill=colour, outline=(196, 200, 206))
-        else:
-            draw.line([(x, cy), (x + sw, cy)], fill=colour, width=2)
-        draw.text((x + sw + 6, cy - px // 2), text, fill=_MUTED, font=small)
-        y += lh
 
 
 def _scale_bar(img, draw, scale, px=12):
@@ -241,17 +252,109 @@ def _region_cells(wmap, usable_tint, below_floor):
     return out
 
 
-def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
-    """The preview picture: usable region, the placed drawing by order, the arm, figures.
+def _ink(cv, strokes, width_mm, rows_per_px=4):
+    """Lay black ink over the canvas as the pen leaves it: coverage mixed in linear light."""
+    from ..trace.srgb import linear_to_srgb, srgb_to_linear
+
+    pts = [cv.px(s) for s in strokes]
+    cov = stroke_coverage(pts, (cv.H, cv.W), width_mm * cv.scale, rows_per_px=rows_per_px)
+    idx = np.nonzero(cov > 0)
+    if len(idx[0]) == 0:
+        return
+    lin = srgb_to_linear(cv.rgb[idx].astype(np.float32) / 255.0)
+    lin *= (1.0 - cov[idx])[:, None]
+    cv.rgb[idx] = np.rint(np.clip(linear_to_srgb(lin), 0, 1) * 255.0).astype(np.uint8)
+
+
+def _wrap(draw, text, font, width):
+    """Greedy word wrap of ``text`` to lines no wider than ``width`` px."""
+    lines, cur = [], ""
+    for word in str(text).split():
+        t = f"{cur} {word}".strip()
+        if cur and _text_w(draw, t, font) > width:
+            lines.append(cur)
+            cur = word
+        else:
+            cur = t
+    return lines + ([cur] if cur else [])
+
+
+def _band(width, title, rows, key, px, scale, order_bar=False):
+    """The legend band under the drawing: heading, figures in columns, key, scale bar."""
+    probe = ImageDraw.Draw(Image.new("RGB", (1, 1)))
+    font, small = _font(px), _font(px - 2)
+    pad, lh = int(px * 1.1), int(px * 1.5)
+    long_rows = [(k, v) for k, v in rows if k == "paper"]
+    rows = [(k, v) for k, v in rows if k != "paper"]
+    ncol = 2 if width >= 40 * px else 1
+    col_w = (width - 2 * pad - (ncol - 1) * pad) // ncol
+    per_col = -(-len(rows) // ncol) if rows else 0
+    notes = [line for k, v in long_rows
+             for line in _wrap(probe, f"{k}: {v}", small, width - 2 * pad)]
+    h = pad + lh + per_col * lh + len(notes) * lh + (lh if order_bar else 0) + \
+        len(key) * lh + lh + pad
+    band = Image.new("RGB", (width, h), _PAPER)
+    draw = ImageDraw.Draw(band)
+    draw.line([(pad, 0), (width - pad, 0)], fill=(214, 218, 223), width=1)
+    y = pad
+    draw.text((pad, y), title, fill=_INK, font=font)
+    y += lh
+    for i, (k, v) in enumerate(rows):
+        c, r = divmod(i, per_col)
+        x = pad + c * (col_w + pad)
+        yy = y + r * lh
+        draw.text((x, yy + 2), k, fill=_MUTED, font=small)
+        draw.text((x + col_w - _text_w(draw, v, font), yy), v, fill=_INK, font=font)
+    y += per_col * lh
+    for line in notes:
+        draw.text((pad, y + 2), line, fill=_INK, font=small)
+        y += lh
+    if order_bar:
+        bw, bh = min(width - 2 * pad, 30 * px), max(5, px // 2)
+        first, last = "first stroke", "last"
+        x0 = pad + _text_w(draw, first, small) + px // 2
+        bw = max(8, bw - (x0 - pad) - _text_w(draw, last, small) - px // 2)
+        ramp = order_ramp(np.linspace(0.0, 1.0, bw))
+        band.paste(Image.fromarray(np.ascontiguousarray(np.repeat(ramp[None], bh, axis=0))),
+                   (x0, y + (lh - bh) // 2))
+        draw.text((pad, y + 2), first, fill=_MUTED, font=small)
+        draw.text((x0 + bw + px // 2, y + 2), last, fill=_MUTED, font=small)
+        y += lh
+    sw = int(px * 1.1)
+    for kind, colour, text in key:
+        cy = y + lh // 2
+        if kind == "swatch":
+            draw.rounded_rectangle([pad, cy - sw // 2 + 1, pad + sw, cy + sw // 2 - 1], radius=2,
+                                   fill=colour, outline=(196, 200, 206))
+        else:
+            draw.line([(pad, cy), (pad + sw, cy)], fill=colour, width=2)
+        draw.text((pad + sw + 6, cy - px // 2), text, fill=_MUTED, font=small)
+        y += lh
+    # a scale bar of a round length in mm
+    L = nice_length(width / scale)
+    x1, yb = width - pad, y + lh // 2
+    x0 = x1 - L * scale
+    draw.line([(x0, yb), (x1, yb)], fill=_INK, width=2)
+    for x in (x0, x1):
+        draw.line([(x, yb - 5), (x, yb + 1)], fill=_INK, width=2)
+    label = f"{L:g} mm"
+    draw.text((x0 - _text_w(draw, label, small) - px // 2, yb - px // 2 - 1), label,
+              fill=_INK, font=small)
+    return band
+
+
+def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900, view="ink"):
+    """The preview picture: the drawing in the arm's usable region, and its figures.
 
     The arm's usable region is shaded by conditioning (bluer is better) and
-    outlined; the reachable area under the conditioning floor is light grey.
-    Strokes are drawn at the pen's width (at least a pixel) coloured by
-    drawing order, from deep indigo (first) to brick red (last); pen-up
-    moves are faint grey; the arm is drawn see-through in one posture (its
-    home, else at the first stroke). A panel in the top-left corner holds
-    the figures and the order ramp, a key sits bottom left and a scale bar
-    bottom right.
+    outlined; the reachable area under the conditioning floor is light grey;
+    the arm is drawn see-through in one posture (its home, else at the first
+    stroke), under the drawing. ``view="ink"`` lays the strokes on as black
+    ink at the pen's width, mixed in linear light by the share of each pixel
+    they cover (as :func:`simulated_png`, at the preview's resolution);
+    ``view="order"`` colours them by drawing order, from deep indigo (first)
+    to brick red (last), over faint grey pen-up travel. Nothing covers the
+    drawing: the heading, figures, key and scale bar sit in a band below.
 
     Parameters
     ----------
@@ -260,14 +363,13 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     arm : FiveBar or SerialArm
     wmap : WorkspaceMap
     stream : JointStream, optional
-        When given, the pen-up moves are drawn from its pen-up rows (the
+        When given, the pen-up travel is drawn from its pen-up rows (the
         path the pen really takes); otherwise as straight lines.
     stats : dict, optional
-        Figures for the top-left corner (see ``Plan.stats``; a
-        ``"fidelity"`` table with ``"ssim"`` and ``"tone_error"`` is shown
-        when present).
+        Figures for the band (see ``Plan.stats`` and :func:`figure_rows`).
     size : int
-        Longer side, pixels.
+        Longer side of the drawing's area, pixels (the band adds height).
+    view : {"ink", "order"}
 
     Returns
     -------
@@ -278,6 +380,7 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     ----------
     .. [1] OpenCV documentation, "Drawing Functions": ``cv2.polylines`` with
        ``LINE_AA`` and sub-pixel ``shift``.
+    .. [2] IEC 61966-2-1:1999 (sRGB), for mixing ink and paper in linear light.
 
     Examples
     --------
@@ -286,43 +389,49 @@ def preview_png(strokes, *, arm, wmap, stream=None, stats=None, size=900):
     >>> arm = default_arm()
     >>> img = preview_png([np.array([[0.0, 150.0], [20.0, 160.0]])], arm=arm,
     ...                   wmap=workspace_map(arm, cells=60), size=300)
-    >>> img.mode, max(img.size)
+    >>> img.mode, img.width
     ('RGB', 300)
     """
+    if view not in ("ink", "order"):
+        raise InkreachError(f"preview view {view!r} is unknown; use 'ink' or 'order'")
     strokes = as_strokes(strokes)
     q = posture(arm, strokes)
     cv = _Canvas(_scene_box(arm, wmap, strokes, q), size)
     cv.shade(wmap, _region_cells(wmap, _TINT, _BELOW_FLOOR))
     cv.lines(outlines(wmap), _EDGE, 1)
-    moves = _travel_paths(stream) if stream is not None else list(travel_moves(strokes))
-    if len(moves):
-        layer = cv.rgb.copy()
-        cv.lines(moves, _TRAVEL, 1, img=layer)
-        cv.blend(layer, 0.45)
-    n = len(strokes)
-    if n:
-        level = np.minimum((np.arange(n) / max(n - 1, 1) * _ORDER_LEVELS).astype(int),
-                           _ORDER_LEVELS - 1)
-        colours = order_ramp(np.arange(_ORDER_LEVELS) / (_ORDER_LEVELS - 1))
-        width = arm.pen.width_mm * cv.scale
-        cut = np.flatnonzero(np.diff(level)) + 1
-        for lo, hi in zip(np.r_[0, cut], np.r_[cut, n]):
-            cv.lines(strokes[lo:hi], colours[level[lo]], width)
     _draw_arm(cv, arm, q)
-    img, draw = cv.image()
-    px = max(11, min(img.width, img.height) // 50)
-    avoid = None
-    if n:
-        pts = cv.px(np.concatenate(strokes))
-        avoid = (*pts.min(axis=0), *pts.max(axis=0))
-    _figures_panel(img, draw, figure_title(stats), figure_rows(stats), px, order_bar=n > 1,
-                   avoid=avoid)
-    tint = tuple(int(v) for v in np.rint(0.55 * 255 + 0.45 * conditioning_ramp(0.85)))
-    _key(img, draw, [("swatch", tint, "usable region, bluer = better conditioned"),
-                     ("swatch", _BELOW_FLOOR, "reachable, under the conditioning floor"),
-                     ("line", (180, 186, 194), "pen-up moves")], px)
-    _scale_bar(img, draw, cv.scale, px)
-    return img
+    n = len(strokes)
+    if view == "order":
+        moves = _travel_paths(stream) if stream is not None else list(travel_moves(strokes))
+        if len(moves):
+            layer = cv.rgb.copy()
+            cv.lines(moves, _TRAVEL, 1, img=layer)
+            cv.blend(layer, 0.45)
+        if n:
+            level = np.minimum((np.arange(n) / max(n - 1, 1) * _ORDER_LEVELS).astype(int),
+                               _ORDER_LEVELS - 1)
+            colours = order_ramp(np.arange(_ORDER_LEVELS) / (_ORDER_LEVELS - 1))
+            width = arm.pen.width_mm * cv.scale
+            cut = np.flatnonzero(np.diff(level)) + 1
+            for lo, hi in zip(np.r_[0, cut], np.r_[cut, n]):
+                cv.lines(strokes[lo:hi], colours[level[lo]], width)
+    elif n:
+        _ink(cv, strokes, arm.pen.width_mm)
+    scene, _ = cv.image()
+    px = max(11, min(scene.width, scene.height) // 50)
+    tint = tuple(int(v) for v in usable_colour(0.85))
+    key = [("swatch", tint, "usable region, bluer = better conditioned"),
+           ("swatch", _BELOW_FLOOR, "reachable, under the conditioning floor")]
+    if view == "order":
+        key.append(("line", (180, 186, 194), "pen-up travel"))
+    else:
+        key.append(("line", (0, 0, 0), "ink at the pen's width, as drawn"))
+    band = _band(scene.width, figure_title(stats), figure_rows(stats), key, px, cv.scale,
+                 order_bar=view == "order" and n > 1)
+    out = Image.new("RGB", (scene.width, scene.height + band.height), _PAPER)
+    out.paste(scene, (0, 0))
+    out.paste(band, (0, scene.height))
+    return out
 
 
 def arm_map_png(arm, wmap, rectangles=(), size=800):
@@ -380,7 +489,7 @@ def arm_map_png(arm, wmap, rectangles=(), size=800):
         text += f"{r.width:.0f} x {r.height:.0f} mm"
         x, y = cv.px(np.array([r.x0, r.y0 + r.height]))
         draw.text((x + 4, y + 3), text, fill=(160, 40, 35), font=font)
-    rows = [("usable area", f"{wmap.usable_area / 100:.0f} cm2"),
+    rows = [("usable area", f"{wmap.usable_area / 100:.0f} cm²"),
             ("conditioning floor", f"{arm.limits.min_conditioning:.2f}")]
     _figures_panel(img, draw, f"{arm.name} ({arm.kind})", rows, px)
     _colour_bar(img, draw, arm.limits.min_conditioning, px)

@@ -4,9 +4,9 @@ from xml.sax.saxutils import escape
 
 import numpy as np
 
-from ._colour import hex_colour, order_ramp
+from ._colour import hex_colour, order_ramp, usable_colour
 from ._scene import (as_strokes, bounds, figure_lines, figure_title, linkage, outlines,
-                     overlap, posture, travel_moves)
+                     posture, travel_moves)
 from .safety import SAFETY_TEXT
 
 __all__ = ["preview_svg"]
@@ -46,7 +46,7 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
     placement_hull : array_like (K, 2), optional
         Outline of the placed drawing, drawn thin and dashed.
     stats : dict, optional
-        Figures to print in the top-left corner.
+        Figures to print in a band below the drawing.
 
     Returns
     -------
@@ -79,6 +79,10 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
     x0, x1, y0, y1 = bounds(groups)
     W, H = x1 - x0, y1 - y0
     size = max(W, H)
+    n = len(strokes)
+    fig_lines = figure_lines(stats)
+    band = _panel_height(fig_lines, size, n > 1)
+    scene_h, H = H, H + band
     out = [
         '<?xml version="1.0" encoding="UTF-8"?>',
         f'<svg xmlns="http://www.w3.org/2000/svg" version="1.1" width="{_fmt(W)}mm" '
@@ -92,8 +96,8 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
     if lines:
         d = " ".join(f"M{_pts(c)}Z".replace(" ", " L", 1) for c in lines if len(c) > 2)
         if d:
-            out.append(f'<path class="usable-area" d="{d}" fill="#eaf3ee" fill-rule="evenodd" '
-                       'stroke="none"/>')
+            out.append(f'<path class="usable-area" d="{d}" '
+                       f'fill="{hex_colour(usable_colour())}" fill-rule="evenodd" stroke="none"/>')
     for c in lines:
         out.append(f'<polyline class="usable" points="{_pts(c)}" stroke="#5c9272" '
                    f'stroke-width="{_fmt(size / 500)}"/>')
@@ -115,7 +119,6 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
                        f'stroke-width="{_fmt(max(pen_w / 2, size / 1500))}" '
                        f'stroke-dasharray="{_fmt(size / 200)} {_fmt(size / 200)}" '
                        'opacity="0.6"/>')
-    n = len(strokes)
     colours = order_ramp(np.arange(n) / max(n - 1, 1))
     out.append(f'<g class="strokes" stroke-width="{_fmt(pen_w)}">')
     for s, c in zip(strokes, colours):
@@ -134,35 +137,30 @@ def preview_svg(strokes, *, arm=None, wmap=None, travel=True, start=None,
                    f'r="{_fmt(size / 150)}" fill="none" stroke="#3c4048" '
                    f'stroke-width="{_fmt(size / 600)}"/>')
     out.append("</g>")
-    avoid = None
-    if n:
-        allp = np.concatenate(strokes)
-        avoid = (allp[:, 0].min(), -allp[:, 1].max(), allp[:, 0].max(), -allp[:, 1].min())
-    out += _panel(figure_title(stats), figure_lines(stats), (x0, -y1, x1), size,
-                  order_bar=n > 1, avoid=avoid)
+    # nothing covers the drawing: the figures go in a band below it
+    out += _panel(figure_title(stats), fig_lines, (x0, -y1 + scene_h), size, order_bar=n > 1)
     out.append("</svg>")
     return "\n".join(out) + "\n"
 
 
-def _panel(title, lines, page, size, order_bar=False, avoid=None):
-    """SVG elements of the figures panel in a top corner (page coordinates).
+def _panel_height(lines, size, order_bar):
+    """Height (mm) of the figures band for these lines; 0 when there are none."""
+    if not lines:
+        return 0.0
+    fs = size / 45
+    pad, lh = fs * 0.8, fs * 1.4
+    return pad + fs * 0.3 + lh * len(lines) + (fs * 2.6 if order_bar else 0) + pad + fs * 1.2
 
-    ``page`` is (left, top, right); the panel goes top left unless it would
-    cover more of the ``avoid`` box (x0, y0, x1, y1) there than top right.
-    """
-    left, top, right = page
+
+def _panel(title, lines, corner, size, order_bar=False):
+    """SVG elements of the figures band, its top-left corner at ``corner`` (page mm)."""
     if not lines:
         return []
     fs = size / 45
     pad, lh = fs * 0.8, fs * 1.4
     width = max(len(s) for s in [title] + lines) * fs * 0.5 + 2 * pad
-    height = pad + fs * 0.3 + lh * len(lines) + (fs * 2.6 if order_bar else 0) + pad
-    x, y = left + fs * 0.6, top + fs * 0.6
-    if avoid is not None:
-        xr = right - fs * 0.6 - width
-        if overlap((xr, y, xr + width, y + height), avoid) < overlap(
-                (x, y, x + width, y + height), avoid):
-            x = xr
+    height = _panel_height(lines, size, order_bar) - fs * 1.2
+    x, y = corner[0] + fs * 0.6, corner[1] + fs * 0.6
     out = [f'<g class="figures" font-family="sans-serif" font-size="{_fmt(fs)}">',
            f'<rect x="{_fmt(x)}" y="{_fmt(y)}" width="{_fmt(width)}" height="{_fmt(height)}" '
            f'rx="{_fmt(pad)}" fill="#ffffff" fill-opacity="0.9" stroke="#d6dadf" '

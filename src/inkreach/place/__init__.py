@@ -1,6 +1,7 @@
 """Placement: scale, rotate and position a drawing in the arm's well-conditioned region."""
 
-from .place import DEFAULT_ROTATIONS, place_drawing, provisional_scale
+from .place import DEFAULT_ROTATIONS, TILT_ROTATIONS, paper_note, place_drawing, provisional_scale
 from .placement import Placement
 
-__all__ = ["place_drawing", "provisional_scale", "Placement", "DEFAULT_ROTATIONS"]
+__all__ = ["place_drawing", "provisional_scale", "Placement", "DEFAULT_ROTATIONS", "TILT_ROTATIONS",
+           "paper_note"]

@@ -10,10 +10,13 @@ from ._geometry import (_along, _apply, _boundary_samples, _ccw, _centroid, _con
                         _interior_samples, _linear)
 from .placement import Placement
 
-__all__ = ["place_drawing", "provisional_scale"]
+__all__ = ["place_drawing", "provisional_scale", "paper_note"]
 
-#: Rotations tried by default, radians, in order of preference.
-DEFAULT_ROTATIONS = tuple(np.deg2rad([0.0, 10.0, -10.0, 20.0, -20.0, 30.0, -30.0, 90.0]))
+#: Rotations tried by default, radians: none, the drawing stays upright (paper
+#: taped square to the base shows it square).
+DEFAULT_ROTATIONS = (0.0,)
+#: Rotations tried with ``tilt=True``, radians, in order of preference.
+TILT_ROTATIONS = tuple(np.deg2rad([0.0, 10.0, -10.0, 20.0, -20.0, 30.0, -30.0, 90.0]))
 
 _PREFER_GAIN = 0.01     # a later rotation must give a 1 % larger scale to win (common practice)
 _CHECK_SPACING = 1.0    # mm between exactly checked samples
@@ -27,7 +30,7 @@ _TOO_SMALL = ("the arm's usable region is too small for any drawing; "
 
 
 def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margin=5.0,
-                  size=None, prefer="largest", rotations=None, flip=True):
+                  size=None, prefer="largest", rotations=None, flip=True, tilt=False):
     """Fit a drawing into the region where the arm draws well.
 
     The drawing's own shape, the convex hull of its stroke points, is
@@ -72,11 +75,16 @@ def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margi
         worst-conditioning.
     rotations : sequence of float, optional
         Rotations to try, radians, in order of preference (a later one
-        must give a 1 % larger drawing to win). Default 0, ±10°, ±20°,
-        ±30° and 90°; ``[0]`` keeps the drawing upright.
+        must give a 1 % larger drawing to win). Default ``[0]``: upright
+        (or :data:`TILT_ROTATIONS` with ``tilt=True``).
     flip : bool
         Mirror the image's rows so that the picture appears upright with
         the arm frame's +y up (image row 0 goes to the largest y).
+    tilt : bool
+        When ``rotations`` is not given, also try tilting the drawing by
+        ±10°, ±20°, ±30° and 90° and keep a tilt that gives a larger
+        drawing; the paper must then be laid turned by the same angle (see
+        :func:`paper_note`).
 
     Returns
     -------
@@ -114,7 +122,10 @@ def place_drawing(strokes, arm, *, wmap=None, image_size=None, paper=None, margi
     if prefer not in ("largest", "isotropic"):
         raise InkreachError(f"prefer={prefer!r} is unknown; use 'largest' or 'isotropic'")
     pts, seg = _gather(strokes)
-    rots = DEFAULT_ROTATIONS if rotations is None else tuple(float(r) for r in rotations)
+    if rotations is None:
+        rots = TILT_ROTATIONS if tilt else DEFAULT_ROTATIONS
+    else:
+        rots = tuple(float(r) for r in np.atleast_1d(np.asarray(rotations, dtype=float)))
     if len(rots) == 0:
         raise InkreachError("rotations is empty; give at least one angle in radians, e.g. [0]")
     if size is not None and not (np.isfinite(size) and size > 0):
@@ -220,6 +231,35 @@ def provisional_scale(image_size, arm, wmap=None, paper=None, margin=5.0, size=N
     if r is None:
         raise InkreachError(_TOO_SMALL)
     return min(r.width / w, r.height / h)
+
+
+def paper_note(rotation_deg):
+    """How to lay the paper for a drawing placed at a tilt; None when it is upright.
+
+    Parameters
+    ----------
+    rotation_deg : float
+        The placement's rotation, degrees counter-clockwise in the arm frame
+        (x to the right, y away from the motors).
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> paper_note(0.0) is None
+    True
+    >>> print(paper_note(-20.0))  # doctest: +NORMALIZE_WHITESPACE
+    tilted 20° clockwise: lay the paper turned 20° clockwise from square to the base
+    (seen from above, motors nearest you)
+    """
+    d = float(rotation_deg)
+    if abs(d) < 0.05:
+        return None
+    way = "counter-clockwise" if d > 0 else "clockwise"
+    return (f"tilted {abs(d):.0f}° {way}: lay the paper turned {abs(d):.0f}° {way} from "
+            "square to the base (seen from above, motors nearest you)")
 
 
 # --- input -------------------------------------------------------------------

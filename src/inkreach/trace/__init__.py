@@ -4,6 +4,7 @@ Strokes are lists of float arrays of shape (N, 2) in working-image pixels,
 x = column, y = row, pixel centres at whole numbers.
 """
 
+from .catalogue import HIDDEN_OPTIONS, option_label, style_catalogue, style_renders
 from .centerline import centerline
 from .contour import contour
 from .graph import trace_skeleton, trail_decomposition
@@ -20,6 +21,7 @@ from .styles import STYLES, style_options, trace
 __all__ = [
     "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
     "trace", "STYLES", "style_options",
+    "style_renders", "style_catalogue", "option_label", "HIDDEN_OPTIONS",
     "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
     "trace_skeleton", "trail_decomposition", "render_strokes",
     "simplify_polylines", "polyline_lengths", "smooth_polylines", "find_corners",

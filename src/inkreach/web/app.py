@@ -75,14 +75,11 @@ def _default_planner(image, arm=None, style="outline", progress=None, **options)
 
 
 def _style_table():
-    """Styles and their options (the arm sets the pen width, so it is left out)."""
-    from ..trace import STYLES, style_options
+    """Styles, what they render, and their options with labels and units (the arm
+    sets the pen width, so it is left out)."""
+    from ..trace import style_catalogue
 
-    return [{"name": name,
-             "options": [{"name": key, "default": _jsonable(default), "help": str(help_)}
-                         for key, (default, help_) in style_options(name).items()
-                         if key != "pen_px"]}
-            for name in STYLES]
+    return _jsonable(style_catalogue())
 
 
 _COMMON = [
@@ -91,14 +88,19 @@ _COMMON = [
     ("prefer", "'largest' drawing, or 'isotropic' for the best-conditioned spot"),
     ("tip_speed", "pen speed while drawing, mm/s (empty: as fast as the motors allow)"),
     ("chord_tol", "largest gap between the drawn chord and the true line, mm"),
+    ("tilt", "'true' also tries tilted drawings, which may draw larger; then lay the "
+             "paper turned as the figures say"),
 ]
 
 
 def _common_options():
     from ..plan import MOTION_OPTIONS, PLACE_OPTIONS
 
+    from ..trace import option_label
+
     defaults = {**PLACE_OPTIONS, **MOTION_OPTIONS}
-    return [{"name": k, "default": _jsonable(defaults.get(k)), "help": h} for k, h in _COMMON]
+    return [{"name": k, "label": option_label(k)[0], "unit": option_label(k)[1],
+             "default": _jsonable(defaults.get(k)), "help": h} for k, h in _COMMON]
 
 
 def _resolve_arm(value):

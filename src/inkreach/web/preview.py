@@ -151,8 +151,12 @@ def preview_data(plan, max_points=8000):
     -------
     dict
         ``strokes`` (decimated polylines, mm, drawing order), ``truncated``,
-        and ``workspace`` with ``usable`` and ``reach`` outlines, ``extent``
-        ``[xmin, xmax, ymin, ymax]`` and the ``motors`` positions.
+        ``workspace`` with ``usable`` and ``reach`` outlines, ``extent``
+        ``[xmin, xmax, ymin, ymax]`` and the ``motors`` positions;
+        ``colours``, the exported previews' colours (``order``: 64 steps
+        of the drawing-order ramp, ``usable``, ``edge``, ``travel``) so the page looks
+        the same; and ``likeness``, the likeness figures as one text, worded
+        as in the previews and the printed table.
     """
     strokes, truncated = decimate_strokes(plan.strokes, max_points=max_points)
     ws = {"usable": [], "reach": [], "extent": None, "motors": []}
@@ -166,4 +170,13 @@ def preview_data(plan, max_points=8000):
     arm = getattr(plan, "arm", None)
     if arm is not None:
         ws["motors"] = _points(arm, ("left_motor", "right_motor", "shoulder"))
-    return {"strokes": strokes, "truncated": bool(truncated), "workspace": ws}
+    from ..export import likeness_text
+    from ..export._colour import hex_colour, order_ramp, usable_colour
+    from ..export.picture import _EDGE, _TRAVEL
+
+    colours = {"order": [hex_colour(c) for c in order_ramp(np.linspace(0.0, 1.0, 64))],
+               "usable": hex_colour(usable_colour()), "edge": hex_colour(_EDGE),
+               "travel": hex_colour(_TRAVEL)}
+    stats = getattr(plan, "stats", None) or {}
+    return {"strokes": strokes, "truncated": bool(truncated), "workspace": ws,
+            "colours": colours, "likeness": likeness_text(stats.get("fidelity"))}

@@ -70,7 +70,14 @@
     const id = prefix + "-" + opt.name;
     const label = document.createElement("label");
     label.htmlFor = id;
-    label.textContent = opt.name;
+    label.textContent = (opt.label || opt.name) + (opt.unit ? " (" + opt.unit + ")" : "");
+    if (opt.label && opt.label !== opt.name) {
+      const ident = document.createElement("code");
+      ident.className = "ident";
+      ident.textContent = opt.name;
+      ident.title = "the name for --set on the command line";
+      label.append(" ", ident);
+    }
     const input = document.createElement("input");
     input.type = "text";
     input.id = id;
@@ -96,7 +103,7 @@
     const data = await getJSON("/api/styles");
     state.styles = data.styles || [];
     const sel = $("style");
-    sel.replaceChildren(...state.styles.map((s) => new Option(s.name, s.name)));
+    sel.replaceChildren(...state.styles.map((s) => new Option(s.name + (s.renders ? " \u2013 draws " + s.renders : ""), s.name)));
     if (state.styles.some((s) => s.name === "outline")) sel.value = "outline";
     sel.addEventListener("change", renderStyleOptions);
     renderStyleOptions();
@@ -205,6 +212,7 @@
     return Math.floor(m / 60) + " h " + String(m % 60).padStart(2, "0") + " min";
   }
   function fmtFidelity(f) {
+    if (state.result && state.result.likeness) return state.result.likeness;
     if (typeof f === "number") return fmt(f, 3);
     if (f && typeof f === "object") {
       return Object.entries(f).filter(([, v]) => typeof v === "number")
@@ -221,6 +229,7 @@
     drawing_mm: (v) => Array.isArray(v) ? fmt(v[0], 1) + " \u00d7 " + fmt(v[1], 1) + " mm" : String(v),
     min_conditioning: (v) => fmt(v, 3),
     fidelity: fmtFidelity,
+    paper_note: String,
   };
   function showFigures(stats) {
     document.querySelectorAll("#figures [data-stat]").forEach((td) => {
@@ -231,6 +240,7 @@
       td.textContent = (FORMATS[k] || String)(v);
     });
     $("fidelity-row").hidden = stats.fidelity === undefined || stats.fidelity === null;
+    $("paper-row").hidden = !stats.paper_note;
   }
   function showFiles(files) {
     document.querySelectorAll(".downloads .dl").forEach((a) => {
@@ -246,12 +256,19 @@
         a.hidden = a.dataset.file === "servo.csv" || a.dataset.file === "stepper.csv";
       }
     });
-    [["preview-png", "preview.png"], ["simulated-png", "simulated.png"]].forEach(([id, name]) => {
-      const img = $(id);
-      if (files[name]) { img.src = files[name] + "?inline=1"; img.hidden = false; } else { img.hidden = true; }
-    });
+    $("downloads").hidden = false;
+    const img = $("simulated-png");
+    if (files["simulated.png"]) {
+      img.src = files["simulated.png"] + "?inline=1";
+      img.hidden = false;
+      $("ink-empty").hidden = true;
+    } else {
+      img.hidden = true;
+      $("ink-empty").hidden = false;
+    }
   }
   function showResult(res) {
+    setColours(res.colours);
     showFigures(res.stats || {});
     showFiles(res.files || {});
     const n = (res.strokes || []).length;
@@ -263,12 +280,28 @@
   }
 
   // ---- the preview drawing ----------------------------------------------------
-  const RAMP = [[35, 50, 74], [47, 109, 134], [192, 120, 45], [181, 83, 46]];
+  // The exported previews' colours, sent with every plan, so the page looks the same.
+  let COLOURS = { order: ["#2c1e6e", "#b42d28"], usable: "#d5e8eb", edge: "#5c9272", travel: "#78808c" };
+  function setColours(c) {
+    if (!c || !Array.isArray(c.order) || c.order.length < 2) return;
+    COLOURS = c;
+    document.querySelectorAll(".sw.ramp").forEach((el) => {
+      el.style.background = "linear-gradient(90deg, " + c.order.filter((_, i) => i % 8 === 0 || i === c.order.length - 1).join(", ") + ")";
+    });
+    document.querySelectorAll(".sw.usable").forEach((el) => { el.style.background = c.usable; });
+  }
   function rampColour(t) {
-    const x = Math.min(Math.max(t, 0), 1) * (RAMP.length - 1);
-    const i = Math.min(Math.floor(x), RAMP.length - 2), f = x - i;
-    const c = RAMP[i].map((a, k) => Math.round(a + (RAMP[i + 1][k] - a) * f));
-    return "rgb(" + c.join(",") + ")";
+    const r = COLOURS.order;
+    const i = Math.round(Math.min(Math.max(t, 0), 1) * (r.length - 1));
+    return r[i];
+  }
+  function showView(which) {
+    const ink = which !== "order";
+    $("view-ink").setAttribute("aria-selected", String(ink));
+    $("view-order").setAttribute("aria-selected", String(!ink));
+    $("view-ink-panel").hidden = !ink;
+    $("view-order-panel").hidden = ink;
+    if (!ink) drawPreview();
   }
   function bounds(res) {
     let xs = [], ys = [];
@@ -312,15 +345,15 @@
     g.setLineDash([]);
     g.beginPath();
     (ws.usable || []).forEach((poly) => poly.forEach((p, i) => (i ? g.lineTo(X(p[0]), Y(p[1])) : g.moveTo(X(p[0]), Y(p[1])))));
-    g.fillStyle = "#e7efe2"; g.fill("evenodd");
-    (ws.usable || []).forEach((poly) => { path(poly, true); g.strokeStyle = "#9db58f"; g.stroke(); });
+    g.fillStyle = COLOURS.usable; g.fill("evenodd");
+    (ws.usable || []).forEach((poly) => { path(poly, true); g.strokeStyle = COLOURS.edge || "#5c9272"; g.stroke(); });
     (ws.motors || []).forEach((m) => {
       g.beginPath(); g.arc(X(m[0]), Y(m[1]), 5, 0, 2 * Math.PI);
       g.fillStyle = "#1f2b3d"; g.fill();
     });
     const strokes = res.strokes || [];
     const upto = Number($("scrub").value);
-    // pen-up moves first, faint, so strokes sit on top
+    // pen-up travel first, faint, so strokes sit on top
     g.strokeStyle = "rgba(120,128,140,.45)"; g.lineWidth = 0.8; g.setLineDash([3, 3]);
     g.beginPath();
     for (let i = 1; i < Math.min(upto, strokes.length); i++) {
@@ -356,6 +389,8 @@
     setupDrop();
     $("plan-button").addEventListener("click", makePlan);
     $("scrub").addEventListener("input", drawPreview);
+    $("view-ink").addEventListener("click", () => showView("ink"));
+    $("view-order").addEventListener("click", () => showView("order"));
     window.addEventListener("resize", drawPreview);
     drawPreview();
     try {
