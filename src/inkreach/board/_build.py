@@ -93,7 +93,8 @@ def build(name, sources, config_text, extra_dirs=(), flags=()):
                "-o", os.path.join(work, name), *sources]
         res = subprocess.run(cmd, capture_output=True, text=True)
         if res.returncode != 0:
-            first = (res.stderr.strip().splitlines() or ["(no message)"])[0]
+            lines = res.stderr.strip().splitlines() or ["(no message)"]
+            first = next((ln for ln in lines if "error" in ln), lines[0])
             raise InkreachError(f"the C compiler failed on the board sources: {first}")
         try:
             os.rename(work, final)

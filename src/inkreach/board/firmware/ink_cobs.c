@@ -14,6 +14,8 @@ uint16_t ink_cobs_encode(const uint8_t *in, uint16_t n, uint8_t *out)
             code++;
             if (code == 0xFF) {
                 out[code_at] = code;
+                if (i + 1 == n)
+                    return o; /* a full block at the very end needs no further code */
                 code_at = o++;
                 code = 1;
             }

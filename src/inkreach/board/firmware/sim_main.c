@@ -25,8 +25,6 @@ static int master = -1;
 static volatile sig_atomic_t quit = 0, reboot = 0;
 static struct ink_core core;
 
-static const double servo1[INK_SERVO1_POINTS][2] = INK_SERVO1_TABLE;
-static const double servo2[INK_SERVO2_POINTS][2] = INK_SERVO2_TABLE;
 
 void ink_port_write(const uint8_t *bytes, uint8_t n)
 {
@@ -52,6 +50,10 @@ static void on_reboot(int sig)
     reboot = 1;
 }
 
+#if INK_DRIVE == 0
+static const double servo1[INK_SERVO1_POINTS][2] = INK_SERVO1_TABLE;
+static const double servo2[INK_SERVO2_POINTS][2] = INK_SERVO2_TABLE;
+
 /* angle (1e-4 degree) a servo pulse puts the joint at: the table read backwards */
 static double servo_angle(const double (*tab)[2], int n, double ticks)
 {
@@ -66,6 +68,8 @@ static double servo_angle(const double (*tab)[2], int n, double ticks)
     return tab[k][0] + (ticks - tab[k][1]) * (tab[k + 1][0] - tab[k][0])
         / (tab[k + 1][1] - tab[k][1]);
 }
+
+#endif
 
 static double executed_deg(int joint, int32_t q)
 {
