@@ -97,10 +97,9 @@ void ink_init(struct ink_core *c, int32_t q1, int32_t q2)
     c->moved = 0;
 }
 
-/* Enter the controlled stop: pen up at once, forget the buffer. */
+/* Enter the controlled stop (the pen lifts with its first period), forget the buffer. */
 static void begin_stop(struct ink_core *c, uint8_t after)
 {
-    c->pen = 0;
     c->state = INK_STOPPING;
     c->after_stop = after;
     c->has_last = 0;
