@@ -20,8 +20,9 @@ def angle_units(deg):
     d = np.asarray(deg, dtype=float)
     if not np.all(np.isfinite(d)):
         raise InkreachError("angles must be finite numbers")
-    x = d * UNITS_PER_DEG
-    # halves away from zero, written out so that the result is exact
+    # decimal halves (as written in joints.csv) go away from zero: clear the
+    # binary noise of the product first
+    x = np.round(d * UNITS_PER_DEG, 6)
     return (np.sign(x) * np.floor(np.abs(x) + 0.5)).astype(np.int64)
 
 

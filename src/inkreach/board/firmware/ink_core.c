@@ -119,6 +119,7 @@ static void ramp(struct ink_core *c)
 static void fault(struct ink_core *c, uint8_t code, uint32_t index, int32_t value)
 {
     c->fault = code;
+    c->pen = 0; /* lifts in this very period */
     begin_stop(c, INK_STOPPED);
     send_fault(c, code, index, value);
     send_status(c);
