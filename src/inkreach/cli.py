@@ -177,6 +177,8 @@ def build_parser():
     st = sub.add_parser("styles", help="list the drawing styles and their options")
     st.add_argument("--format", choices=("table", "json"), default="table",
                     help="plain text or JSON (default table)")
+    from .board.cli import add_board_commands
+    _COMMANDS.update(add_board_commands(sub))
     return top
 
 
