@@ -138,7 +138,7 @@
 
   function updateButton() {
     const needArm = $("arm").value === "__upload__" && !state.armUpload;
-    $("plan-button").disabled = !state.file || needArm || state.busy;
+    $("plan-button").disabled = !(state.file || $("text").value.trim()) || needArm || state.busy;
   }
 
   // ---- planning ---------------------------------------------------------------
@@ -155,10 +155,12 @@
     updateButton();
   }
   async function makePlan() {
-    if (!state.file) { showError("Choose a picture first."); return; }
+    const words = $("text").value.trim();
+    if (!state.file && !words) { showError("Choose a picture or type some text first."); return; }
     clearError();
     const fd = new FormData();
-    fd.append("image", state.file, state.file.name || "picture");
+    if (state.file) fd.append("image", state.file, state.file.name || "picture");
+    if (words) fd.append(state.file ? "caption" : "text", words);
     fd.append("style", $("style").value);
     const armSel = $("arm").value;
     if (armSel === "__upload__") fd.append("arm", state.armUpload.text);
@@ -355,6 +357,7 @@
   async function start() {
     setupDrop();
     $("plan-button").addEventListener("click", makePlan);
+    $("text").addEventListener("input", updateButton);
     $("scrub").addEventListener("input", drawPreview);
     window.addEventListener("resize", drawPreview);
     drawPreview();
