@@ -363,9 +363,14 @@ def _shape_polylines(shape, tol_user, se):
         p = _apply(m, ln)
         if not np.isfinite(p).all() or np.abs(p).max() > MAX_COORD:
             raise InkreachError("the SVG has non-finite or huge coordinates; fix the file")
+        # drop repeats and float-noise steps (a closing point a few ulps off)
+        eps = 1e-9 * max(1.0, float(np.abs(p).max()))
         keep = np.ones(len(p), bool)
-        keep[1:] = np.any(np.diff(p, axis=0) != 0, axis=1)
+        keep[1:] = np.hypot(*np.diff(p, axis=0).T) > eps
+        closed = bool(np.hypot(*(p[-1] - p[0])) <= eps)
         p = p[keep]
+        if closed and len(p) > 2:
+            p[-1] = p[0]
         if len(p) >= 2:
             out.append(p)
     return out
