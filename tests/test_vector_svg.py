@@ -460,3 +460,11 @@ def test_a_plain_doctype_without_declarations_is_read():
     data = (b'<?xml version="1.0"?><!DOCTYPE svg PUBLIC "-//W3C//DTD SVG 1.1//EN" '
             b'"http://www.w3.org/Graphics/SVG/1.1/DTD/svg11.dtd">' + svg('<line x1="0" y1="0" x2="5" y2="0"/>'))
     assert len(load_svg(data).strokes) == 1
+
+
+def test_huge_number_written_in_digits_refused_after_parsing(tmp_path):
+    # 10**20 user units, no exponent: passes the text guard, caught on the
+    # coordinates (bound 1e9 user units: our choice, ~10 km at 96 px/in)
+    data = svg('<line x1="0" y1="0" x2="1' + "0" * 20 + '" y2="5"/>')
+    with pytest.raises(InkreachError, match="huge"):
+        load_svg(data, tol=0.05)
