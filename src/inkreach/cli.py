@@ -135,7 +135,8 @@ def build_parser():
                        epilog="example:\n  inkreach demo --out demo-out --style hatch",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     d.add_argument("--picture", default="emblem",
-                   help="which demo picture: emblem, still-life or postcard-text (default emblem)")
+                   help="which demo picture: emblem, still-life or postcard-text, or postcard "
+                        "(the still life with a caption) (default emblem)")
     _add_plan_options(d)
     d.set_defaults(out="inkreach-demo", style=None)
 
@@ -239,14 +240,14 @@ def _check_out_dir(path):
         raise InkreachError(f"output folder {path} is not writable; choose another with --out")
 
 
-def _cmd_plan(args, image=None, style=None):
+def _cmd_plan(args, image=None, style=None, extra=None):
     from .plan import plan
 
     _check_out_dir(args.out)
     from .vector.cli import print_warnings, text_kwargs
     image = args.image if image is None else image
     style = args.style if style is None else style
-    extra = text_kwargs(args) if hasattr(args, "text") else {}
+    extra = text_kwargs(args) if hasattr(args, "text") else dict(extra or {})
     with _Progress(enabled=not args.quiet and args.format == "table") as prog:
         result = plan(image, arm=args.arm, style=style, progress=prog, **_plan_kwargs(args),
                       **extra)
@@ -260,7 +261,11 @@ def _cmd_plan(args, image=None, style=None):
 
 
 def _cmd_demo(args):
-    from .demo import demo_picture
+    from .demo import POSTCARD, demo_picture
+    if args.picture == "postcard":
+        path, style = demo_picture(POSTCARD["picture"])
+        return _cmd_plan(args, image=path, style=args.style or POSTCARD["style"],
+                         extra={"caption": POSTCARD["caption"]})
     path, style = demo_picture(args.picture)
     return _cmd_plan(args, image=path, style=args.style or style)
 
