@@ -101,3 +101,14 @@ def test_web_refuses_a_hostile_svg_in_one_line(client):
            b'<svg xmlns="http://www.w3.org/2000/svg"><text>&x;</text></svg>')
     r = client.post("/api/plans", files={"image": ("x.svg", xxe, "image/svg+xml")})
     assert r.status_code == 400 and "entit" in r.json()["error"]
+
+
+def test_plan_svg_with_fill_hatch(tmp_path, capsys):
+    src = tmp_path / "badge.svg"
+    src.write_bytes(b'<svg xmlns="http://www.w3.org/2000/svg" width="60" height="60">'
+                    b'<circle cx="30" cy="30" r="25"/></svg>')
+    out = tmp_path / "out"
+    assert main(["plan", str(src), "--fill-hatch", "4", "--out", str(out), "-q"]) == 0
+    doc = json.loads((out / "plan.json").read_text())
+    assert doc["stats"]["strokes"] > 10 and doc["stats"]["warnings"] == []
+    assert "outlines" not in capsys.readouterr().err

@@ -468,3 +468,40 @@ def test_huge_number_written_in_digits_refused_after_parsing(tmp_path):
     data = svg('<line x1="0" y1="0" x2="1' + "0" * 20 + '" y2="5"/>')
     with pytest.raises(InkreachError, match="huge"):
         load_svg(data, tol=0.05)
+
+
+# --- hatching filled shapes (an option) ------------------------------------------
+
+@pytest.mark.parametrize("rule, hole_filled", [("evenodd", False), ("nonzero", True)])
+def test_fill_hatch_follows_the_fill_rule(rule, hole_filled):
+    from skimage.measure import points_in_poly
+    # two squares drawn the same way round: with evenodd the inner one is a
+    # hole, with nonzero (winding 2) it is filled (SVG 1.1 section 11.3)
+    body = (f'<path fill-rule="{rule}" d="M 10 10 L 90 10 L 90 90 L 10 90 Z '
+            'M 30 30 L 70 30 L 70 70 L 30 70 Z"/>')
+    d = load_svg(svg(body), tol=0.01, fill_spacing=2.0, fill_angle=30.0)
+    outer = np.array([[10, 10], [90, 10], [90, 90], [10, 90]], float)
+    inner = np.array([[30, 30], [70, 30], [70, 70], [30, 70]], float)
+    hatch = [s for s in d.strokes if len(s) == 2 and not np.allclose(s[0], s[-1])]
+    hatch = [s for s in hatch if abs(np.arctan2(*(s[1] - s[0])[::-1]) % np.pi - np.pi / 6) < 1e-9]
+    assert len(hatch) > 20
+    # scikit-image's point-in-polygon test as the reference for "inside"
+    samples = np.concatenate([s[0] + np.linspace(0.02, 0.98, 25)[:, None] * (s[1] - s[0])
+                              for s in hatch])
+    assert points_in_poly(samples, outer).all()
+    in_hole = points_in_poly(samples, inner)
+    assert in_hole.any() == hole_filled
+    # every segment ends on an edge of one of the squares
+    ends = np.concatenate(hatch)
+    edge = np.min([polyline_dist(ends, np.vstack([q, q[:1]])) for q in (outer, inner)], axis=0)
+    assert edge.max() < 1e-9
+    # neighbouring lines are 2 units apart
+    normal = np.array([-np.sin(np.pi / 6), np.cos(np.pi / 6)])
+    offs = np.unique(np.round([s[0] @ normal for s in hatch], 6))
+    np.testing.assert_allclose(np.diff(offs), 2.0, atol=1e-6)
+
+
+def test_fill_hatch_off_by_default_says_outlines():
+    d = load_svg(svg('<rect x="0" y="0" width="20" height="20"/>'), tol=0.01)
+    assert len(d.strokes) == 1
+    assert any("outlines" in w for w in d.warnings)

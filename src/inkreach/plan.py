@@ -202,7 +202,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         Hershey font name, default ``"futural"``), ``text_height`` (letter
         height in mm for ``text``; default as large as fits), ``align``
         (``"left"``, ``"center"``, ``"right"``) and ``actual_size`` (draw an
-        SVG at the physical size its file gives). ``stats["warnings"]``
+        SVG at the physical size its file gives), ``fill_hatch`` (hatch an
+        SVG's filled shapes, line spacing in mm). ``stats["warnings"]``
         lists what an SVG holds that is not drawn.
 
     Returns
@@ -258,7 +259,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     if kind == "svg":
         step("place")
         drawing, merged, placement = vsrc.place_svg(
-            image, arm, wmap, {**place_opts, "actual_size": vec_opts["actual_size"]},
+            image, arm, wmap, {**place_opts, "actual_size": vec_opts["actual_size"],
+                               "fill_hatch": vec_opts["fill_hatch"]},
             motion_opts["chord_tol"])
         warnings += list(drawing.warnings)
         W, H = drawing.size

@@ -22,6 +22,9 @@ def add_text_options(p):
     p.add_argument("--actual-size", action="store_true",
                    help="draw an SVG at the physical size its file gives (mm, in, px at "
                         "96 per inch)")
+    p.add_argument("--fill-hatch", type=float, default=None, metavar="MM",
+                   help="hatch an SVG's filled shapes with lines about this far apart, mm "
+                        "(default: outlines only)")
 
 
 def _lines(text):
@@ -37,6 +40,8 @@ def text_kwargs(args):
         out["caption"] = _lines(args.caption)
     if args.actual_size:
         out["actual_size"] = True
+    if args.fill_hatch is not None:
+        out["fill_hatch"] = args.fill_hatch
     return out
 
 

@@ -15,7 +15,7 @@ __all__ = ["VECTOR_OPTIONS", "input_kind", "text_input", "add_caption", "place_s
 
 #: Options of line-art input, with their defaults.
 VECTOR_OPTIONS = {"text": None, "caption": None, "font": DEFAULT_FONT, "text_height": None,
-                  "align": None, "actual_size": False}
+                  "align": None, "actual_size": False, "fill_hatch": None}
 #: Caption letter height as a fraction of the picture's longer side, and
 #: the gap above it in letter heights (our choice: readable, not dominant).
 CAPTION_HEIGHT = 0.07
@@ -42,6 +42,9 @@ def input_kind(image, opts):
         return "svg"
     if opts["actual_size"]:
         raise InkreachError("actual_size applies to SVG files, which carry a physical size")
+    if opts["fill_hatch"] is not None:
+        raise InkreachError("fill_hatch applies to SVG files; for a picture use the hatch "
+                            "style")
     return "picture"
 
 
@@ -107,9 +110,18 @@ def place_svg(source, arm, wmap, place_opts, chord_tol, rounds=3):
     s = provisional_scale(tuple(np.maximum(ext, 1e-9 * ext.max())), arm, wmap=wmap,
                           **{k: opts[k] for k in ("paper", "margin", "size")})
     opts.pop("actual_size", None)
+    spacing_mm = opts.pop("fill_hatch", None)
+    if spacing_mm is not None:
+        try:
+            spacing_mm = float(spacing_mm)
+        except (TypeError, ValueError):
+            raise InkreachError(f"fill_hatch {spacing_mm!r} must be a spacing in mm") from None
+        if not (np.isfinite(spacing_mm) and spacing_mm > 0):
+            raise InkreachError(f"fill_hatch {spacing_mm!r} must be a positive spacing in mm")
     for _ in range(rounds):
         tol = chord_tol / (s * 1.02)
-        drawing = load_svg(source, tol=tol)
+        drawing = load_svg(source, tol=tol,
+                           fill_spacing=None if spacing_mm is None else spacing_mm / s)
         if _actual(place_opts):
             opts["size"] = float(_extent(drawing.strokes).max()) * drawing.mm_per_unit
         merged = merge_strokes(drawing.strokes, tol=min(1e-6 * float(ext.max()), 0.01 * tol))

@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InkreachError
+from .fill import hatch_fill
 
 __all__ = ["VectorDrawing", "load_svg", "looks_like_svg", "flatten_tolerance",
            "MAX_SVG_BYTES", "MAX_PATH_COMMANDS"]
@@ -385,7 +386,8 @@ def _shape_polylines(shape, tol_user, se):
     return out
 
 
-def load_svg(source, tol=None, *, chord_tol_mm=0.05, mm_per_unit=None):
+def load_svg(source, tol=None, *, chord_tol_mm=0.05, mm_per_unit=None, fill_spacing=None,
+             fill_angle=45.0):
     """Read an SVG 1.1 file's stroked geometry as polylines.
 
     Paths (every command), rect (with rounded corners), circle, ellipse,
@@ -405,6 +407,11 @@ def load_svg(source, tol=None, *, chord_tol_mm=0.05, mm_per_unit=None):
         or at ``mm_per_unit`` when given.
     chord_tol_mm : float
     mm_per_unit : float, optional
+    fill_spacing : float, optional
+        Hatch filled shapes with parallel lines this far apart (user
+        units), by their fill rule; None (the default) draws outlines only.
+    fill_angle : float
+        Direction of the hatch lines, degrees.
 
     Returns
     -------
@@ -435,6 +442,8 @@ def load_svg(source, tol=None, *, chord_tol_mm=0.05, mm_per_unit=None):
     data = _read_bytes(source)
     root = _guard(data)
     warnings = _warnings(root)
+    if fill_spacing is not None:
+        warnings = tuple(w for w in warnings if "drawn as outlines" not in w)
     try:
         doc = se.SVG.parse(io.BytesIO(data), reify=False, ppi=96.0)
     except Exception as exc:
@@ -452,7 +461,12 @@ def load_svg(source, tol=None, *, chord_tol_mm=0.05, mm_per_unit=None):
             continue
         if str(el.values.get("visibility", "visible")).lower() in ("hidden", "collapse"):
             continue
-        for p in _shape_polylines(el, tol, se):
+        lines = _shape_polylines(el, tol, se)
+        if fill_spacing is not None and el.fill is not None and el.fill.value is not None \
+                and not isinstance(el, se.SimpleLine):
+            rule = str(el.values.get("fill-rule", "nonzero")).strip().lower()
+            lines = lines + hatch_fill(lines, fill_spacing, np.deg2rad(fill_angle), rule)
+        for p in lines:
             n_points += len(p)
             if n_points > MAX_POINTS:
                 raise InkreachError("the SVG is too detailed to flatten at this chord "
