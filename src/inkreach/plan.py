@@ -67,7 +67,11 @@ class Plan:
 
     @property
     def image_to_arm(self):
-        """2 x 3 affine taking an input pixel (column, row) to arm mm."""
+        """2 x 3 affine taking an input pixel (column, row) to arm mm.
+
+        For an SVG the input units are its user units after the viewBox
+        (px at 96 per inch); for text alone, mm of the laid-out text.
+        """
         return np.asarray(self.placement.matrix, dtype=float)
 
     def preview(self, size=900):
@@ -317,7 +321,7 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
                                             5)
     used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
-            **{k: v for k, v in vec_opts.items() if v is not None and v is not False},
+            **vsrc.used_options(kind, vec_opts),
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,

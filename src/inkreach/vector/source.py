@@ -11,7 +11,8 @@ from ..errors import InkreachError
 from .svg import load_svg, looks_like_svg
 from .text import DEFAULT_FONT, text_strokes
 
-__all__ = ["VECTOR_OPTIONS", "input_kind", "text_input", "add_caption", "place_svg"]
+__all__ = ["VECTOR_OPTIONS", "input_kind", "text_input", "add_caption", "place_svg",
+           "used_options"]
 
 #: Options of line-art input, with their defaults.
 VECTOR_OPTIONS = {"text": None, "caption": None, "font": DEFAULT_FONT, "text_height": None,
@@ -46,6 +47,13 @@ def input_kind(image, opts):
         raise InkreachError("fill_hatch applies to SVG files; for a picture use the hatch "
                             "style")
     return "picture"
+
+
+def used_options(kind, opts):
+    """The line-art options worth recording for this input (none for a bare picture)."""
+    if kind == "picture" and opts["caption"] is None:
+        return {}
+    return {k: v for k, v in opts.items() if v is not None and v is not False}
 
 
 def text_input(opts, place_opts):
