@@ -528,3 +528,15 @@ def test_fill_hatch_off_by_default_says_outlines():
     d = load_svg(svg('<rect x="0" y="0" width="20" height="20"/>'), tol=0.01)
     assert len(d.strokes) == 1
     assert any("outlines" in w for w in d.warnings)
+
+
+def test_svg_recognised_by_content_and_svgz_refused(tmp_path):
+    import gzip
+    from inkreach.vector import looks_like_svg
+    plain = tmp_path / "drawing"
+    plain.write_bytes(svg('<line x1="0" y1="0" x2="5" y2="0"/>'))
+    assert looks_like_svg(str(plain)) and not looks_like_svg(str(tmp_path / "none.png"))
+    packed = tmp_path / "drawing.svgz"
+    packed.write_bytes(gzip.compress(plain.read_bytes()))
+    with pytest.raises(InkreachError, match="svgz"):
+        inkreach.plan(packed)

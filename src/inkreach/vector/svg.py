@@ -86,7 +86,13 @@ def looks_like_svg(source):
         s = os.fspath(source)
         if s.lstrip().startswith(("<svg", "<?xml")):
             return True
-        return s.lower().endswith((".svg",))
+        if s.lower().endswith((".svg", ".svgz")):
+            return True
+        try:                          # a file without the extension: look at its start
+            with open(s, "rb") as f:
+                return looks_like_svg(f.read(512))
+        except (OSError, ValueError):
+            return False
     return False
 
 
@@ -126,6 +132,9 @@ def _read_bytes(source):
 
 def _guard(data):
     """Refuse hostile or oversized structure before any real parsing."""
+    if data[:2] == b"\x1f\x8b":
+        raise InkreachError("the file is a compressed SVG (.svgz); unpack it to a plain .svg "
+                            "first")
     low = data[:MAX_SVG_BYTES].lower()
     if b"<!entity" in low:
         raise InkreachError("the SVG declares XML entities, which are refused (they can read "
