@@ -540,3 +540,24 @@ def test_svg_recognised_by_content_and_svgz_refused(tmp_path):
     packed.write_bytes(gzip.compress(plain.read_bytes()))
     with pytest.raises(InkreachError, match="svgz"):
         inkreach.plan(packed)
+
+
+@settings(max_examples=60, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(x1=st.floats(20, 180), y1=st.floats(20, 180), x2=st.floats(20, 180),
+       y2=st.floats(20, 180), rx=st.floats(1, 120), ry=st.floats(1, 120),
+       phi=st.floats(-180, 180), fa=st.integers(0, 1), fs=st.integers(0, 1))
+def test_any_arc_lies_on_the_f65_ellipse(x1, y1, x2, y2, rx, ry, phi, fa, fs):
+    assume(math.hypot(x2 - x1, y2 - y1) > 1.0)
+    path = f'<path d="M {x1!r} {y1!r} A {rx!r} {ry!r} {phi!r} {fa} {fs} {x2!r} {y2!r}"/>'
+    d = load_svg(svg(path, 'width="300" height="300"'), tol=0.02)
+    s = np.concatenate(d.strokes)
+    np.testing.assert_allclose(s[0], [x1, y1], atol=1e-7)
+    np.testing.assert_allclose(s[-1], [x2, y2], atol=1e-7)
+    (cx, cy), (Rx, Ry), ph, th1, dth = f65_centre(x1, y1, x2, y2, rx, ry, phi, fa, fs)
+    c, sn = math.cos(ph), math.sin(ph)
+    u = c * (s[:, 0] - cx) + sn * (s[:, 1] - cy)
+    v = -sn * (s[:, 0] - cx) + c * (s[:, 1] - cy)
+    np.testing.assert_allclose((u / Rx) ** 2 + (v / Ry) ** 2, 1.0, atol=1e-6)
+    theta = np.unwrap(np.arctan2(v / Ry, u / Rx))
+    assert theta[-1] - theta[0] == pytest.approx(dth, abs=1e-5)
