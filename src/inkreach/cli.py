@@ -20,6 +20,9 @@ examples:
   inkreach plan logo.png --style centerline --out logo-plan
   inkreach plan face.jpg --style hatch --arm my_arm.toml --paper 0 60 148 105
   inkreach plan cat.jpg --style stipple --set dots=6000 --set mode=line --format json
+  inkreach plan logo.svg                        an SVG file's lines, as drawn
+  inkreach plan --text "Happy birthday" --text-height 12
+  inkreach plan photo.jpg --caption "Greetings from the print shop"
 """
 
 
@@ -122,8 +125,12 @@ def build_parser():
                                    "drawing where the arm is well conditioned, time it within "
                                    "the motor limits, check every sample, and write the files.",
                        epilog=_PLAN_EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("image", help="the picture: PNG, JPEG, WebP, TIFF, BMP or GIF")
+    p.add_argument("image", nargs="?", default=None,
+                   help="the picture: PNG, JPEG, WebP, TIFF, BMP or GIF, or an SVG file "
+                        "(optional with --text)")
     _add_plan_options(p)
+    from .vector.cli import add_text_options
+    add_text_options(p)
 
     d = sub.add_parser("demo", help="plan the shipped demo picture on the default arm",
                        description="Run the whole job on a shipped demo picture with the "
@@ -131,7 +138,8 @@ def build_parser():
                        epilog="example:\n  inkreach demo --out demo-out --style hatch",
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     d.add_argument("--picture", default="emblem",
-                   help="which demo picture: emblem, still-life or postcard-text (default emblem)")
+                   help="which demo picture: emblem, still-life or postcard-text, or postcard "
+                        "(the still life with a caption) (default emblem)")
     _add_plan_options(d)
     d.set_defaults(out="inkreach-demo", style=None)
 
@@ -241,15 +249,19 @@ def _check_out_dir(path):
         raise InkreachError(f"output folder {path} is not writable; choose another with --out")
 
 
-def _cmd_plan(args, image=None, style=None):
+def _cmd_plan(args, image=None, style=None, extra=None):
     from .plan import plan
 
     _check_out_dir(args.out)
+    from .vector.cli import print_warnings, text_kwargs
     image = args.image if image is None else image
     style = args.style if style is None else style
+    extra = text_kwargs(args) if hasattr(args, "text") else dict(extra or {})
     with _Progress(enabled=not args.quiet and args.format == "table") as prog:
-        result = plan(image, arm=args.arm, style=style, progress=prog, **_plan_kwargs(args))
+        result = plan(image, arm=args.arm, style=style, progress=prog, **_plan_kwargs(args),
+                      **extra)
     written = result.save(args.out)
+    print_warnings(result.stats, sys.stderr)
     if args.format == "json":
         print(json.dumps({"stats": result.stats, "files": written}, indent=2))
     elif not args.quiet:
@@ -258,7 +270,11 @@ def _cmd_plan(args, image=None, style=None):
 
 
 def _cmd_demo(args):
-    from .demo import demo_picture
+    from .demo import POSTCARD, demo_picture
+    if args.picture == "postcard":
+        path, style = demo_picture(POSTCARD["picture"])
+        return _cmd_plan(args, image=path, style=args.style or POSTCARD["style"],
+                         extra={"caption": POSTCARD["caption"]})
     path, style = demo_picture(args.picture)
     return _cmd_plan(args, image=path, style=args.style or style)
 

@@ -13,8 +13,8 @@ from PIL import Image, ImageDraw, ImageFont
 
 from .errors import InkreachError
 
-__all__ = ["still_life", "emblem", "postcard_text", "DEMO_PICTURES", "demo_picture",
-           "write_demo_pictures"]
+__all__ = ["still_life", "emblem", "postcard_text", "DEMO_PICTURES", "POSTCARD",
+           "demo_picture", "write_demo_pictures"]
 
 
 def still_life(width=960, height=720):
@@ -137,6 +137,11 @@ DEMO_PICTURES = {
     "still-life": (still_life, "hatch"),
     "postcard-text": (postcard_text, "centerline"),
 }
+
+
+#: The print-shop postcard: a demo picture with a caption under it.
+POSTCARD = {"picture": "still-life", "style": "hatch",
+            "caption": "Greetings from the print shop"}
 
 
 def write_demo_pictures(folder):

@@ -67,7 +67,11 @@ class Plan:
 
     @property
     def image_to_arm(self):
-        """2 x 3 affine taking an input pixel (column, row) to arm mm."""
+        """2 x 3 affine taking an input pixel (column, row) to arm mm.
+
+        For an SVG the input units are its user units after the viewBox
+        (px at 96 per inch); for text alone, mm of the laid-out text.
+        """
         return np.asarray(self.placement.matrix, dtype=float)
 
     def preview(self, size=900, view="ink"):
@@ -175,13 +179,14 @@ def _positive(name, v, allow_none=True):
     return f
 
 
-def plan(image, arm=None, style="outline", *, progress=None, **options):
+def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     """Turn a picture into a checked drawing plan for an arm.
 
     Parameters
     ----------
-    image : str, os.PathLike, PIL.Image.Image or ndarray
-        The picture.
+    image : str, os.PathLike, bytes, PIL.Image.Image, ndarray or None
+        The picture, or an SVG 1.1 file (a path ending in ``.svg``, or its
+        bytes or text); None when ``text`` is given.
     arm : None, str, os.PathLike or Arm
         The arm: None for the built-in default, a built-in name
         (``"default"``, ``"wide"``, ``"serial"``), an arm-file path or TOML
@@ -201,6 +206,14 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         ``joint_order`` (reorder by joint-space time), ``signals``
         (``"auto"``, ``"servo"``, ``"stepper"`` or ``"both"``), ``start``
         (rest posture in degrees) and ``fidelity`` (score the drawing).
+        Line art: ``text`` (text alone, lines split by newlines), ``caption``
+        (text under the picture, placed together with it), ``font`` (a
+        Hershey font name, default ``"futural"``), ``text_height`` (letter
+        height in mm for ``text``; default as large as fits), ``align``
+        (``"left"``, ``"center"``, ``"right"``) and ``actual_size`` (draw an
+        SVG at the physical size its file gives), ``fill_hatch`` (hatch an
+        SVG's filled shapes, line spacing in mm). ``stats["warnings"]``
+        lists what an SVG holds that is not drawn.
 
     Returns
     -------
@@ -226,6 +239,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     if "pen_px" in options:
         raise InkreachError("option pen_px is set from the arm's pen width; change [pen] "
                             "width_mm in the arm file instead")
+    from .vector.source import VECTOR_OPTIONS
+    vec_opts = {k: options.pop(k, d) for k, d in VECTOR_OPTIONS.items()}
     place_opts, motion_opts, own, style_opts = _split_options(options)
     for k in ("chord_tol", "period", "tip_speed"):
         motion_opts[k] = _positive(k, motion_opts[k])
@@ -244,19 +259,45 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         raise InkreachError("the arm's usable region is too small for any drawing; "
                             "widen the joint limits or lower min_conditioning")
     step("load")
-    pic = load_image(image, max_side=max_side,
-                     max_pixels=int(_positive("max_pixels", own["max_pixels"], allow_none=False)))
-    W, H = pic.original_size
-    s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
-                                                       ("paper", "margin", "size")})
-    pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
-    step("trace")
-    strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
-    strokes_o = [pic.to_original(s) for s in strokes_w]
-    step("merge")
-    merged = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
-    step("place")
-    placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H), **place_opts)
+    from .vector import source as vsrc
+    kind = vsrc.input_kind(image, vec_opts)
+    warnings = []
+    if kind != "picture":
+        if style_opts:
+            warnings.append(f"style options {', '.join(sorted(style_opts))} apply to "
+                            "pictures only and were not used")
+        style_opts, style = {}, kind
+    if kind == "svg":
+        step("place")
+        drawing, merged, placement = vsrc.place_svg(
+            image, arm, wmap, {**place_opts, "actual_size": vec_opts["actual_size"],
+                               "fill_hatch": vec_opts["fill_hatch"]},
+            motion_opts["chord_tol"])
+        warnings += list(drawing.warnings)
+        W, H = drawing.size
+    elif kind == "text":
+        strokes_t, (W, H), fixed = vsrc.text_input(vec_opts, place_opts)
+        merged = merge_strokes(strokes_t, tol=1e-6)
+        step("place")
+        placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H),
+                                  **{**place_opts, "size": place_opts["size"] or fixed})
+    else:
+        pic = load_image(image, max_side=max_side,
+                         max_pixels=int(_positive("max_pixels", own["max_pixels"],
+                                                  allow_none=False)))
+        W, H = pic.original_size
+        s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
+                                                           ("paper", "margin", "size")})
+        pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
+        step("trace")
+        strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
+        strokes_o = [pic.to_original(s) for s in strokes_w]
+        step("merge")
+        merged = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
+        if vec_opts["caption"] is not None:
+            merged, (W, H) = vsrc.add_caption(merged, (W, H), vec_opts)
+        step("place")
+        placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H), **place_opts)
     strokes_mm = placement.apply_all(merged)
     start_q = arm.home() if own["start"] is None else np.deg2rad(np.asarray(own["start"], float))
     if start_q is None:
@@ -280,18 +321,21 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     reached = _reached_xy(stream, arm, signals)
     travel = travel_stats(route.strokes, start=start_xy)
     stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
+    stats["warnings"] = warnings
     if signals:
         # the worst pen-position error that rounding the angles to whole
         # steps or whole microseconds causes, by forward kinematics
         stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
                                             5)
     used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
+            **vsrc.used_options(kind, vec_opts),
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
-             image_size=(int(W), int(H)), reached_xy=reached)
-    if own["fidelity"]:
+             image_size=(int(W), int(H)) if kind == "picture" else (float(W), float(H)),
+             reached_xy=reached)
+    if own["fidelity"] and kind == "picture" and vec_opts["caption"] is None:
         step("fidelity")
         from .fidelity import plan_fidelity
         stats["fidelity"] = plan_fidelity(p, image)

@@ -19,6 +19,7 @@ from starlette.exceptions import HTTPException as StarletteHTTPException
 from starlette.requests import ClientDisconnect
 
 from ..errors import InkreachError
+from ..vector import looks_like_svg
 from .forms import parse_options
 from .preview import preview_data
 from .store import PlanStore, content_type
@@ -402,26 +403,33 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         form = await _parse_form(request, body)
         try:
             image = form.get("image")
-            if not isinstance(image, UploadFile):
-                raise _ApiError(400, "no picture: send the file in a form field named image")
-            if (image.content_type or "").lower().startswith("text/"):
-                raise _ApiError(415, "the upload is text, not a picture; "
-                                     "send a PNG, JPEG, GIF, BMP, TIFF or WebP file")
-            data = await image.read()  # the file name is never used
+            lines = {k: form.get(k) for k in ("text", "caption", "font", "align")
+                     if isinstance(form.get(k), str) and form.get(k).strip()}
+            if image is None and "text" in lines:
+                data = None
+            elif not isinstance(image, UploadFile):
+                raise _ApiError(400, "no picture: send the file in a form field named image, "
+                                     "or text in a field named text")
+            else:
+                data = await image.read()  # the file name is never used
+                if (image.content_type or "").lower().startswith("text/") and \
+                        not looks_like_svg(data):
+                    raise _ApiError(415, "the upload is text, not a picture; "
+                                         "send a PNG, JPEG, GIF, BMP, TIFF, WebP or SVG file")
             style = form.get("style") or "outline"
             if not isinstance(style, str):
                 raise _ApiError(400, "style must be a word such as outline or hatch")
             arm_text = await _field_text(form.get("arm"), "arm file", _MAX_ARM_BYTES)
             fields = []
             for k, v in form.multi_items():
-                if k in ("image", "style", "arm"):
+                if k in ("image", "style", "arm", "text", "caption", "font", "align"):
                     continue
                 if not isinstance(v, str):
                     raise _ApiError(400, f"field {k[:40]} should be text, not a file")
                 fields.append((k, v))
         finally:
             await form.close()
-        options = parse_options(fields)
+        options = {**parse_options(fields), **lines}
         if not slots.acquire(blocking=False):
             raise _ApiError(503, "the server is busy with other plans; try again in a "
                                  "few seconds", headers={"Retry-After": "5"})
@@ -435,7 +443,7 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         return JSONResponse(result)
 
     def _compute(data, arm_text, style, options, token):
-        im = _sniff_picture(data, max_pixels)
+        im = data if data is None or looks_like_svg(data) else _sniff_picture(data, max_pixels)
         arm = _resolve_arm(arm_text)
 
         def report(stage, done=0, total=1):

@@ -145,7 +145,7 @@
 
   function updateButton() {
     const needArm = $("arm").value === "__upload__" && !state.armUpload;
-    $("plan-button").disabled = !state.file || needArm || state.busy;
+    $("plan-button").disabled = !(state.file || $("text").value.trim()) || needArm || state.busy;
   }
 
   // ---- planning ---------------------------------------------------------------
@@ -162,10 +162,12 @@
     updateButton();
   }
   async function makePlan() {
-    if (!state.file) { showError("Choose a picture first."); return; }
+    const words = $("text").value.trim();
+    if (!state.file && !words) { showError("Choose a picture or type some text first."); return; }
     clearError();
     const fd = new FormData();
-    fd.append("image", state.file, state.file.name || "picture");
+    if (state.file) fd.append("image", state.file, state.file.name || "picture");
+    if (words) fd.append(state.file ? "caption" : "text", words);
     fd.append("style", $("style").value);
     const armSel = $("arm").value;
     if (armSel === "__upload__") fd.append("arm", state.armUpload.text);
@@ -388,6 +390,7 @@
   async function start() {
     setupDrop();
     $("plan-button").addEventListener("click", makePlan);
+    $("text").addEventListener("input", updateButton);
     $("scrub").addEventListener("input", drawPreview);
     $("view-ink").addEventListener("click", () => showView("ink"));
     $("view-order").addEventListener("click", () => showView("order"));
