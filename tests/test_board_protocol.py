@@ -122,7 +122,7 @@ def test_samples_frame_layout_and_link_budget():
 
 
 def test_angle_units_round_to_a_ten_thousandth_of_a_degree():
-    deg = np.array([120.274327, -59.72497649, 0.00004, 179.99999])
+    deg = np.array([120.274327, -59.72497649, 0.00005, 179.99999])
     u = to_units(deg)
     assert np.all(np.abs(from_units(u) - deg) <= 0.5e-4 + 1e-12)
-    assert u.tolist() == [1202743, -597250, 0, 1800000]
+    assert u.tolist() == [1202743, -597250, 1, 1800000]

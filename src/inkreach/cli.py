@@ -172,6 +172,8 @@ def build_parser():
     c.add_argument("--out", "-o", default="inkreach-calibration", metavar="DIR")
 
     sub.add_parser("styles", help="list the drawing styles and their options")
+    from .board.cli import add_board_commands
+    _COMMANDS.update(add_board_commands(sub))
     from .board.run_cli import add_run_command
     add_run_command(sub, _COMMANDS)
     return top

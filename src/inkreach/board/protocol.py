@@ -297,12 +297,16 @@ def encode_samples(seq, first, units, pen):
 def to_units(deg):
     """Degrees to angle units (signed 32-bit counts of 1e-4 degree), rounded.
 
+    Halves go away from zero, as the board's own conversion
+    (:func:`inkreach.board.angle_units`, which this calls).
+
     Examples
     --------
-    >>> to_units([120.0, -0.00006]).tolist()
-    [1200000, -1]
+    >>> to_units([120.0, -0.00006, 0.00005]).tolist()
+    [1200000, -1, 1]
     """
-    return np.rint(np.asarray(deg, dtype=float) * 1e4).astype(np.int64)
+    from .firmware_signals import angle_units
+    return angle_units(deg)
 
 
 def from_units(units):

@@ -55,11 +55,6 @@ def _digest(folder):
     return h
 
 
-def _arm_hash(arm):
-    from ..arms import arm_to_toml
-    return zlib.crc32(arm_to_toml(arm).encode("utf-8")) & 0xFFFFFFFF
-
-
 def _write_json(folder, name, data):
     fd, tmp = tempfile.mkstemp(prefix="." + name, dir=folder)
     with os.fdopen(fd, "w", encoding="utf-8") as f:
@@ -82,7 +77,8 @@ def _plan_drive(arm):
 
 def _compare_identity(ident, arm, period):
     """One line saying what differs between the board and the plan, or None."""
-    name = arm.name.encode("utf-8")[:40].decode("utf-8", "ignore")
+    from .identity import arm_hash, board_name
+    name = board_name(arm)
     if ident.version != P.PROTOCOL_VERSION:
         return (f"the board speaks protocol version {ident.version}, this host speaks "
                 f"version {P.PROTOCOL_VERSION}; build the firmware from this inkreach with "
@@ -90,9 +86,9 @@ def _compare_identity(ident, arm, period):
     if ident.name != name:
         return (f"the board was built for the arm {ident.name!r}, the plan is for {name!r}; "
                 "plan for the board's arm or rebuild the firmware")
-    if ident.arm_hash != _arm_hash(arm):
+    if ident.arm_hash != arm_hash(arm):
         return (f"the board was built for another version of the arm {name!r} (arm hash "
-                f"{ident.arm_hash:08x}, the plan's is {_arm_hash(arm):08x}); rebuild the "
+                f"{ident.arm_hash:08x}, the plan's is {arm_hash(arm):08x}); rebuild the "
                 "firmware from the plan's arm file")
     drive = _plan_drive(arm)
     if drive is not None and ident.drive != drive:

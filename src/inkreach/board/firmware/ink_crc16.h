@@ -1,0 +1,12 @@
+#ifndef INK_CRC16_H
+#define INK_CRC16_H
+#include <stdint.h>
+#ifdef __cplusplus
+extern "C" {
+#endif
+/* CRC-16/IBM-3740: poly 0x1021, init 0xFFFF, no reflection, no final xor. */
+uint16_t ink_crc16(const uint8_t *data, uint16_t n);
+#ifdef __cplusplus
+}
+#endif
+#endif
