@@ -267,10 +267,11 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
                 window = msg.next + msg.free
                 if msg.state == 4:
                     return Outcome("finished", done, True, msg)
-                if msg.state in (2, 3):
+                if msg.state == 3 or (msg.state == 2 and msg.fault):
+                    # state 2 without a fault: braking after the last sample, then finished
                     if msg.fault:
                         return stopped("fault", msg if msg.state == 3 else None, fault)
-                    return stopped("interrupted", msg if msg.state == 3 else None)
+                    return stopped("interrupted", msg)
         now = time.monotonic()
         if now - link.last_rx > line_lost:
             return stopped("lost", None)
