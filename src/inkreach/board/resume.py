@@ -17,7 +17,7 @@ import numpy as np
 from ..errors import InkreachError
 
 __all__ = ["Cursor", "stroke_runs", "arc_position", "cut_stroke", "cursor_after_row",
-           "resume_stream"]
+           "resume_stream", "approach_stream"]
 
 _DONE_MM = 1e-3   # a stroke drawn to within this of its end is finished (chosen: far
 #                   below the 0.05 mm chord tolerance)
@@ -137,6 +137,8 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
         First plan row streamed after ``prefix`` (``len(q_rows)``: none).
     stroke, s0 : int, float
         The stroke the prefix finishes and where it starts on it.
+    q, pen : ndarray
+        The whole stream (prefix, then plan rows from ``tail_from``).
 
     Raises
     ------
@@ -166,3 +168,24 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
     check_stream(whole, arm, strokes=None if rehearse else draw + list(later),
                  chord_tol=0.05 + 1e-3, atol=1e-3)
     return prefix, tail_from, cursor.stroke, cursor.s, q, pen
+
+
+def approach_stream(posture, arm, q_rows, pen_rows, strokes, period, rehearse=False):
+    """A pen-up approach from ``posture`` to the plan's first row, then the whole plan.
+
+    Returns the same tuple as :func:`resume_stream` (``stroke`` is -1: the
+    prefix draws nothing).
+    """
+    from ..motion import JointStream, check_stream, plan_motion
+
+    prefix = plan_motion([], arm, start=np.asarray(posture, float), end=q_rows[0],
+                         period=period)
+    q = np.concatenate([prefix.q, q_rows])
+    pen = np.concatenate([prefix.pen, pen_rows]).astype(np.int8)
+    if rehearse:
+        pen[:] = 0
+    whole = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
+                        period=period)
+    check_stream(whole, arm, strokes=None if rehearse else list(strokes),
+                 chord_tol=0.05 + 1e-3, atol=1e-3)
+    return prefix, 0, -1, 0.0, q, pen

@@ -185,32 +185,38 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
             cursor = _cursor_from_board(state, st, pen_rows, xy_rows, q_rows, strokes)
             attempt = int(state["attempt"]) + 1
         else:
+            prior = _read_state(folder)
+            if prior and not prior.get("finished") and prior.get("digest") == digest:
+                raise InkreachError(f"the last run of {folder} was interrupted; continue it "
+                                    "with --resume, or delete run-state.json to start over")
             start = P.to_units(rows[0, 1:3])
-            if np.any(np.abs(start - posture_u) > 1):
-                raise InkreachError(
-                    f"the arm is at ({st.q1 / 1e4:.4f}, {st.q2 / 1e4:.4f}) deg, not at the "
-                    f"plan's start ({rows[0, 1]:.4f}, {rows[0, 2]:.4f}) deg; run with --resume "
-                    "to continue an interrupted run, or bring the arm home")
-            cursor, attempt = None, int(state["attempt"]) + 1 if state else 1
+            at_start = not np.any(np.abs(start - posture_u) > 1)
+            cursor = None if at_start else R.Cursor(0 if len(strokes) else -1)
+            attempt = int(prior["attempt"]) + 1 if prior else 1
         attempt = (attempt - 1) % 250 + 1
         if cursor is None:
             q_send, pen_send = q_rows, pen_rows.copy()
             if rehearse:
                 pen_send[:] = 0
             stream_map = {"prefix_xy": [], "prefix_pen": [], "prefix_units": [], "stroke": -1,
-                          "s0": 0.0, "tail_from": 0}
+                          "s0": 0.0, "tail_from": 0, "before": -1}
             done_rows = 0
             units = P.to_units(rows[:, 1:3])
         else:
-            prefix, tail_from, k, s0, q_send, pen_send = R.resume_stream(
-                cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse)
+            if resume:
+                prefix, tail_from, k, s0, q_send, pen_send = R.resume_stream(
+                    cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse)
+            else:   # a pen-up approach from where the motors are to the plan's start
+                prefix, tail_from, k, s0, q_send, pen_send = R.approach_stream(
+                    posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse)
             units = P.to_units(np.rad2deg(q_send))
             units[0] = posture_u   # start exactly where the motors are
             npre = len(prefix.q)
             stream_map = {"prefix_xy": np.round(prefix.xy, 4).tolist(),
                           "prefix_pen": prefix.pen.astype(int).tolist(),
                           "prefix_units": units[:npre].tolist(), "stroke": int(k),
-                          "s0": float(s0), "tail_from": int(tail_from)}
+                          "s0": float(s0), "tail_from": int(tail_from),
+                          "before": int(k) if resume else (0 if len(strokes) else -1)}
             done_rows = int(tail_from)
         base = attempt << 24
         state = {"format": 1, "digest": digest, "rows": int(len(rows)), "attempt": attempt,
@@ -303,9 +309,14 @@ def _cursor_from_board(state, st, pen_rows, xy_rows, q_rows, strokes):
     if done >= npre:
         return R.cursor_after_row(sm["tail_from"] + done - npre, pen_rows, xy_rows, strokes)
     k = sm["stroke"]
-    if k < 0:
-        return R.Cursor(-1)
-    s = float(sm["s0"])
-    if done >= 0 and sm["prefix_pen"][done]:
-        s = max(s, R.arc_position(strokes[k], sm["prefix_xy"][done]))
-    return R.Cursor(k, s)
+    if done >= 0 and k >= 0 and sm["prefix_pen"][done]:
+        return R.Cursor(k, max(float(sm["s0"]), R.arc_position(strokes[k], sm["prefix_xy"][done])))
+    return R.Cursor(int(sm["before"]), float(sm["s0"]) if sm["before"] == k else 0.0)
+
+
+def _read_state(folder):
+    try:
+        with open(os.path.join(folder, _STATE), encoding="utf-8") as f:
+            return json.load(f)
+    except (OSError, ValueError):
+        return None
