@@ -7,6 +7,7 @@ Limits here come straight from the built-in desk five-bar's arm file (degrees ti
 import zlib
 
 import numpy as np
+import pytest
 from hypothesis import given, settings, strategies as st
 
 from inkreach.arms import arm_to_toml, load_arm
@@ -104,7 +105,7 @@ def test_good_stream_is_executed_one_sample_per_period():
 
 
 def test_stream_ending_while_moving_brakes_then_finishes():
-    rows = ramp_rows(HOME, [3000, 6000])
+    rows = ramp_rows(HOME, [6000, 12000])      # holding after 12000 would be 12000 > DDQ
     core = Core()
     stream(core, rows)
     core.tick(10)
@@ -318,3 +319,52 @@ def test_whatever_the_host_sends_the_motion_stays_safe(changes):
     else:
         assert executed(ticks)[:len(rows)] == rows     # (then a braking tail, pen up)
         assert ticks[-1]["state"] == 4
+        last = np.diff(np.array([HOME] + [r[:2] for r in rows]), axis=0)[-1]
+        if np.abs(last).max() <= DDQ:
+            assert len(executed(ticks)) == len(rows)
+
+
+def _plan_rows(tmp_path_factory):
+    import os
+    import subprocess
+    import sys
+    out = tmp_path_factory.mktemp("plan") / "demo"
+    root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+    env = dict(os.environ, PYTHONPATH=os.path.join(root, "src"))
+    res = subprocess.run([sys.executable, "-m", "inkreach", "demo", "--out", str(out), "-q"],
+                         capture_output=True, text=True, env=env, timeout=300)
+    assert res.returncode == 0, res.stderr
+    data = np.loadtxt(out / "joints.csv", delimiter=",", skiprows=1)
+    from inkreach.board import angle_units
+    u = angle_units(data[:, 1:3])
+    return [(int(a), int(b), int(p)) for (a, b), p in zip(u, data[:, 3].astype(int))]
+
+
+@pytest.fixture(scope="module")
+def demo_rows(tmp_path_factory):
+    return _plan_rows(tmp_path_factory)
+
+
+@pytest.mark.parametrize("drive", ["servo", "stepper"])
+def test_a_real_plan_runs_through_the_core_one_for_one(demo_rows, drive):
+    rows = demo_rows
+    core = Core("default", drive)
+    core.send(host_frame("B", 1, 0))
+    seq, sent = 1, 0
+    while sent < min(60, len(rows)):
+        seq += 1
+        core.send(samples_frame(seq, sent, rows[sent:sent + 5]))
+        sent += len(rows[sent:sent + 5])
+    core.send(host_frame("E", seq + 1, len(rows) - 1))
+    core.send(host_frame("G", seq + 2))
+    seq += 2
+    while sent < len(rows):
+        core.tick(5)
+        seq = (seq + 1) % 256
+        core.send(samples_frame(seq, sent, rows[sent:sent + 5]))
+        sent += len(rows[sent:sent + 5])
+    core.tick(80)
+    ticks, msgs = core.run()
+    assert not [m for _, m in msgs if isinstance(m, Fault)]
+    assert executed(ticks) == rows
+    assert ticks[-1]["state"] == 4 and ticks[-1]["done"] == len(rows) - 1

@@ -45,11 +45,11 @@ def add_board_commands(sub):
     """
     f = sub.add_parser(
         "firmware", help="write a ready-to-build firmware folder for an arm",
-        description="Write an Arduino-style sketch folder for the arm: the portable C99 "
-                    "board core, a front-end for hobby servos or step/dir drivers, and "
-                    "inkreach_config.h with the arm's limits, calibration and identity. "
-                    "A reference to review, not a certified controller: rehearse with the "
-                    "pen lifted, keep a power switch within reach, check pins and pulse "
+        description="Write an Arduino-style sketch folder for the arm: the portable C99\n"
+                    "board core, a front-end for hobby servos or step/dir drivers, and\n"
+                    "inkreach_config.h with the arm's limits, calibration and identity.\n"
+                    "A reference to review, not a certified controller: rehearse with the\n"
+                    "pen lifted, keep a power switch within reach, check pins and pulse\n"
                     "ranges against your motors' and drivers' documentation.",
         epilog="example:\n  inkreach firmware my_arm.toml --out my_board --drive servo\n"
                "  then build my_board/my_board.ino",
@@ -64,7 +64,7 @@ def add_board_commands(sub):
 
     s = sub.add_parser(
         "simulate-board", help="run the board's C core on this computer behind a serial port",
-        description="Build the same C core as `inkreach firmware` with this computer's C "
+        description="Build the same C core as `inkreach firmware` with this computer's C\n"
                     "compiler and run it behind a pseudo-terminal, as a board to stream to.",
         epilog=_SIM_EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
     s.add_argument("--arm", default="default", help="arm file or built-in arm name "

@@ -24,7 +24,7 @@ def _caution():
 def firmware_files(arm, drive="servo", period=0.02, pins=None, sketch="inkreach_board"):
     """The sketch folder's files as ``{relative path: text}``.
 
-    Every C file starts with the safety caution; ``inkreach_config.h`` holds
+    Every C file starts with the safety caution (the shipped sources carry it); ``inkreach_config.h`` holds
     the arm's numbers; ``<sketch>.ino`` is the board front-end for the drive.
     """
     cfg = board_config(arm, drive, period, pins)
@@ -32,9 +32,9 @@ def firmware_files(arm, drive="servo", period=0.02, pins=None, sketch="inkreach_
     out = {"inkreach_config.h": config_header(cfg, caution)}
     for name in CORE + _HEADERS:
         with open(os.path.join(firmware_dir(), name), encoding="utf-8") as fh:
-            out[name] = caution + fh.read()
+            out[name] = fh.read()
     with open(os.path.join(firmware_dir(), _FRONT[drive]), encoding="utf-8") as fh:
-        out[f"{sketch}.ino"] = caution + fh.read()
+        out[f"{sketch}.ino"] = fh.read()
     with open(os.path.join(firmware_dir(), "README_board.txt"), encoding="utf-8") as fh:
         out["README.txt"] = fh.read().replace("{sketch}", sketch).replace("{drive}", drive)
     out["PROTOCOL.md"] = resources.files("inkreach.board").joinpath("PROTOCOL.md") \

@@ -1,3 +1,10 @@
+/*
+ * CAUTION: reference firmware, to be reviewed; NOT a certified motion controller.
+ * Rehearse every new arm and plan with the pen lifted and the arm unloaded, keep
+ * hands clear of a moving arm, keep a power switch within reach, and check the
+ * pin numbers and pulse ranges against your motors' and drivers' documentation
+ * (and follow their makers' instructions and local rules) before the first run.
+ */
 /* The board's state machine: protocol v1 (see PROTOCOL.md), one sample per period. */
 #include "ink_core.h"
 
@@ -126,13 +133,20 @@ static void fault(struct ink_core *c, uint8_t code, uint32_t index, int32_t valu
     ramp(c);
 }
 
+static int32_t iabs32(int32_t x)
+{
+    return x < 0 ? -x : x;
+}
+
 static void finish(struct ink_core *c)
 {
-    if (c->v[0] == 0 && c->v[1] == 0) {
+    if (iabs32(c->v[0]) <= INK_DDQ_MAX && iabs32(c->v[1]) <= INK_DDQ_MAX) {
+        /* holding the last sample is itself within the acceleration limit */
+        c->v[0] = c->v[1] = 0;
         c->state = INK_FINISHED;
         send_status(c);
     } else {
-        /* the stream ended while moving: brake rather than jump */
+        /* the stream ended while moving fast: brake rather than jump */
         begin_stop(c, INK_FINISHED);
         send_status(c);
     }
