@@ -255,7 +255,8 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
         row_txt = f"sample {out.done + 1} of {len(units)}"
         again = f"inkreach run {folder} --port {port} --resume"
         if out.kind == "finished":
-            _log(folder, f"finished: {len(units)} samples executed")
+            _log(folder, f"finished: {len(units)} samples executed, {out.resent} resent "
+                         "after losses on the line")
             return 0
         if out.kind == "interrupted":
             _log(folder, f"stopped on request after {row_txt}; pen up")

@@ -143,6 +143,7 @@ class Outcome:
     exact: bool
     status: object = None
     fault: object = None
+    resent: int = 0
 
 
 def _posture_match(units, lo, hi, q):
@@ -181,6 +182,7 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
     n = len(units)
     last = base + n - 1
     done = -1
+    resent = [0]
 
     def note(st):
         nonlocal done
@@ -194,7 +196,7 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
         if final is not None:
             note(final)
         exact = final is not None and final.state in (3, 4) and final.done != P.NONE
-        return Outcome(kind, done, exact, final, fault)
+        return Outcome(kind, done, exact, final, fault, resent[0])
 
     m, _ = _ask(link, lambda s: P.encode_begin(s, base),
                 lambda m, s: isinstance(m, P.Status) and m.seq == s)
@@ -245,8 +247,9 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
                 fault = msg
             elif isinstance(msg, P.Gap):
                 if msg.next < base:
-                    return Outcome("reset", done, False, None)
+                    return Outcome("reset", done, False, None, resent=resent[0])
                 if msg.next < sent:
+                    resent[0] += sent - msg.next
                     sent = msg.next
             elif isinstance(msg, P.Status):
                 if msg.next < base or (running and msg.state == 0):
@@ -255,7 +258,7 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
                         done = j
                         if on_done:
                             on_done(done)
-                    return Outcome("reset", done, j is not None, msg)
+                    return Outcome("reset", done, j is not None, msg, resent=resent[0])
                 if go_seq is not None and msg.seq == go_seq and msg.state in (1, 4):
                     running = True
                 if end_seq is not None and msg.seq == end_seq:
@@ -266,7 +269,7 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
                 board_next = msg.next
                 window = msg.next + msg.free
                 if msg.state == 4:
-                    return Outcome("finished", done, True, msg)
+                    return Outcome("finished", done, True, msg, resent=resent[0])
                 if msg.state == 3 or (msg.state == 2 and msg.fault):
                     # state 2 without a fault: braking after the last sample, then finished
                     if msg.fault:
@@ -276,6 +279,7 @@ def stream_samples(link, units, pen, base, *, on_done=None, should_stop=None,
         if now - link.last_rx > line_lost:
             return stopped("lost", None)
         if sent > board_next and now - t_progress > rto:
+            resent[0] += sent - board_next
             sent = board_next
             t_progress = now
             link.send(P.encode_query(link.next_seq()))
