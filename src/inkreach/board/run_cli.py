@@ -257,6 +257,8 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
         if out.kind == "finished":
             _log(folder, f"finished: {len(units)} samples executed, {out.resent} resent "
                          "after losses on the line")
+            print(f"finished: {len(units)} samples executed; the arm is at rest with the pen "
+                  "up")
             return 0
         if out.kind == "interrupted":
             _log(folder, f"stopped on request after {row_txt}; pen up")
