@@ -333,9 +333,14 @@ def test_bit_flips_and_dropped_bytes_are_survived(plans, procs, tmp_path):
     assert resent and int(resent.group(1)) > 0     # the faults really hit samples
 
 
-def _interrupted_then_resumed(plan, trace, port, arm, first_rc, resume_port=None, drive="servo"):
+def _interrupted_then_resumed(plan, trace, port, arm, first_rc, resume_port=None, drive="servo",
+                              mid_stroke=False):
     tr1 = _trace(trace)
     assert tr1[-1, 3] == 0, "the trace must end with the pen up"
+    if mid_stroke:
+        # trace row c is stream sample c: the last confirmed one had the pen down
+        c = json.loads((plan / "run-state.json").read_text())["confirmed"]
+        assert tr1[c, 3] == 1 and c + 1 < len(tr1)
     rc, err = _finish(procs_run := subprocess.Popen(
         [PY, "-m", "inkreach", "run", str(plan), "--port", resume_port or port, "--resume"],
         env=ENV, stdout=subprocess.PIPE, stderr=subprocess.PIPE))
@@ -367,7 +372,7 @@ def test_ctrl_c_stops_with_the_pen_up_and_resume_finishes(plans, procs, tmp_path
     assert rc == 130, err
     line = _last_line(err)
     assert "--resume" in line and "pen up" in line
-    _interrupted_then_resumed(plan, trace, port, "default", rc)
+    _interrupted_then_resumed(plan, trace, port, "default", rc, mid_stroke=True)
 
 
 def test_stall_beyond_the_watchdog_stops_and_resume_finishes(plans, procs, tmp_path):
@@ -419,7 +424,7 @@ def test_stepper_ctrl_c_then_resume(plans, procs, tmp_path):
     run.send_signal(signal.SIGINT)
     rc, err = _finish(run)
     assert rc == 130, err
-    _interrupted_then_resumed(plan, trace, port, "serial", rc, drive="stepper")
+    _interrupted_then_resumed(plan, trace, port, "serial", rc, drive="stepper", mid_stroke=True)
 
 
 # --- refusals: one line, non-zero exit, the board never moves ------------------------------
