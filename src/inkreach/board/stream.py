@@ -96,9 +96,13 @@ def _ask(link, make, want, timeout=_LINE_LOST, resend=_RTO):
     return None, got
 
 
-def handshake(link):
-    """The board's :class:`~inkreach.board.protocol.Identity`, or None when it is silent."""
-    m, _ = _ask(link, P.encode_hello, lambda m, s: isinstance(m, P.Identity))
+def handshake(link, timeout=6.0):
+    """The board's :class:`~inkreach.board.protocol.Identity`, or None when it is silent.
+
+    The default wait covers boards that restart when the port opens (a
+    bootloader's first seconds).
+    """
+    m, _ = _ask(link, P.encode_hello, lambda m, s: isinstance(m, P.Identity), timeout=timeout)
     return m
 
 
