@@ -391,6 +391,20 @@ def test_stall_beyond_the_watchdog_stops_and_resume_finishes(plans, procs, tmp_p
     _interrupted_then_resumed(plan, trace, port, "default", rc)
 
 
+def test_line_cut_longer_than_the_host_waits_then_resume_finishes(plans, procs, tmp_path):
+    plan = _copy(plans["servo"], tmp_path)
+    trace = tmp_path / "trace.csv"
+    _, port = procs.board("default", trace)
+    relay, relayed = procs.relay(port, "--stall-after", "0.3", "--stall-for", "4.5")
+    rc, err = _finish(procs.run(plan, relayed))
+    assert rc == 1, err
+    assert "stopped answering" in _last_line(err) and "--resume" in _last_line(err)
+    relay.kill()
+    relay.wait(10)
+    _wait_still(trace)
+    _interrupted_then_resumed(plan, trace, port, "default", rc)
+
+
 def test_host_killed_then_resume_finishes(plans, procs, tmp_path):
     plan = _copy(plans["servo"], tmp_path)
     trace = tmp_path / "trace.csv"
