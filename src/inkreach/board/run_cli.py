@@ -56,12 +56,17 @@ def _digest(folder):
 
 
 def _write_json(folder, name, data):
-    fd, tmp = tempfile.mkstemp(prefix="." + name, dir=folder)
-    with os.fdopen(fd, "w", encoding="utf-8") as f:
-        json.dump(data, f, indent=1)
-        f.flush()
-        os.fsync(f.fileno())
-    os.replace(tmp, os.path.join(folder, name))
+    """Write ``name`` atomically (a temporary file renamed over it)."""
+    try:
+        fd, tmp = tempfile.mkstemp(prefix="." + name, dir=folder)
+        with os.fdopen(fd, "w", encoding="utf-8") as f:
+            json.dump(data, f, indent=1)
+            f.flush()
+            os.fsync(f.fileno())
+        os.replace(tmp, os.path.join(folder, name))
+    except OSError as e:
+        raise InkreachError(f"cannot write {name} in {folder} ({e}); make the plan folder "
+                            "writable") from None
 
 
 def _log(folder, line):
@@ -240,11 +245,17 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
             now = time.monotonic()
             if now - last_write[0] > 0.3:
                 last_write[0] = now
-                _write_json(folder, _STATE, state)
+                try:
+                    _write_json(folder, _STATE, state)
+                except InkreachError:
+                    pass   # never abort a moving arm over a file; the end writes again
 
         try:
             out = stream_samples(link, units, pen_send, base, on_done=on_done,
                                  should_stop=lambda: stop.hit)
+        except BaseException:
+            stop_board(link)      # whatever went wrong here, the arm stops first
+            raise
         finally:
             signal.signal(signal.SIGINT, old)
             if bar is not None:
