@@ -325,7 +325,9 @@ def test_rehearsal_holds_the_pen_up(plans, procs, tmp_path):
 def test_bit_flips_and_dropped_bytes_are_survived(plans, procs, tmp_path):
     plan = _copy(plans["servo"], tmp_path)
     trace = tmp_path / "trace.csv"
-    _, port = procs.board("default", trace)
+    # A slower clock: a 64-sample buffer lasts 128 ms of wall time, enough for
+    # retransmissions on a loaded test machine.
+    _, port = procs.board("default", trace, speedup="10")
     _, relayed = procs.relay(port, "--flip", "0.0005", "--drop", "0.0005", "--seed", "7")
     rc, err = _finish(procs.run(plan, relayed))
     assert rc == 0, err

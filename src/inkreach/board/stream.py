@@ -17,9 +17,9 @@ from . import protocol as P
 
 __all__ = ["Link", "Outcome", "handshake", "query", "stop_board", "stream_samples"]
 
-_RTO = 0.25          # s without progress before going back to the board's next (chosen:
-#                      ten status intervals at the fastest simulated clock, well under a
-#                      real 64-sample buffer's 1.28 s)
+_RTO = 0.1           # s without progress before going back to the board's next (chosen:
+#                      every S frame is answered at once, a round trip at 115200 baud is
+#                      about 10 ms; well under a real 64-sample buffer's 1.28 s)
 _LINE_LOST = 3.0     # s without any valid frame: the line is lost (chosen: > 10 RTOs)
 _STOP_WAIT = 15.0    # s to wait for the board to report it has stopped
 
