@@ -21,7 +21,7 @@ import numpy as np
 import pytest
 from scipy.spatial import cKDTree
 
-from inkreach.arms import load_arm, parse_arm
+from inkreach.arms import parse_arm
 
 ROOT = Path(__file__).resolve().parents[1]
 PY = sys.executable
@@ -345,7 +345,7 @@ def _interrupted_then_resumed(plan, trace, port, arm, first_rc, resume_port=None
         # trace row c is stream sample c: the last confirmed one had the pen down
         c = json.loads((plan / "run-state.json").read_text())["confirmed"]
         assert tr1[c, 3] == 1 and c + 1 < len(tr1)
-    rc, err = _finish(procs_run := subprocess.Popen(
+    rc, err = _finish(subprocess.Popen(
         [PY, "-m", "inkreach", "run", str(plan), "--port", resume_port or port, "--resume"],
         env=ENV, stdout=subprocess.PIPE, stderr=subprocess.PIPE))
     assert rc == 0, err
