@@ -187,6 +187,8 @@ def build_parser():
                     help="plain text or JSON (default table)")
     from .board.cli import add_board_commands
     _COMMANDS.update(add_board_commands(sub))
+    from .board.run_cli import add_run_command
+    add_run_command(sub, _COMMANDS)
     return top
 
 

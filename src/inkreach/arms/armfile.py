@@ -294,7 +294,7 @@ def _toml_table(name, table, fmt):
     """Lines of a TOML table, its scalars first, then its sub-tables."""
     lines = ["", f"[{name}]"]
     subs = []
-    for k, v in table.items():
+    for k, v in sorted(table.items()):  # canonical: the same arm gives the same text
         if isinstance(v, dict):
             subs.append((k, v))
         else:
@@ -342,6 +342,6 @@ def arm_to_toml(arm):
               "", "[pen]", f"width_mm = {fmt(arm.pen.width_mm)}", f"lift_s = {fmt(arm.pen.lift_s)}"]
     if arm.home_deg is not None:
         lines += ["", "[home]", f"theta_deg = {fmt(arm.home_deg)}"]
-    for section, table in (arm.hardware or {}).items():
+    for section, table in sorted((arm.hardware or {}).items()):
         lines += _toml_table(section, table, fmt)
     return "\n".join(lines) + "\n"

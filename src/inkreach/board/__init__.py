@@ -13,3 +13,11 @@ from .sim import build_simulator
 __all__ = ["BoardConfig", "board_config", "config_header", "angle_units", "executed_angles",
            "executed_deviation_mm", "servo_ticks", "stepper_positions", "firmware_files",
            "write_firmware", "arm_hash", "board_name", "build_simulator"]
+
+# The host side: the codec, the streamer and `inkreach run`.
+from . import protocol  # noqa: E402
+from .resume import Cursor, resume_stream  # noqa: E402
+from .run_cli import run_plan  # noqa: E402
+from .stream import Link, stream_samples  # noqa: E402
+
+__all__ += ["protocol", "Cursor", "resume_stream", "run_plan", "Link", "stream_samples"]
