@@ -9,10 +9,10 @@
 from .arms import (FiveBar, Limits, PenSpec, SerialArm, default_arm, example_arms,
                    largest_rectangle, load_arm, parse_arm, workspace_map)
 from .errors import InkreachError
-from .fidelity import Fidelity, fidelity, plan_fidelity
+from .fidelity import Fidelity, ToneLikeness, fidelity, plan_fidelity, tone_likeness
 from .motion import JointStream, check_stream
 from .plan import Plan, plan
-from .trace import STYLES, load_image, style_options
+from .trace import STYLE_RENDERS, STYLES, load_image, style_options
 
 __version__ = "0.1.0"
 
@@ -20,5 +20,6 @@ __all__ = [
     "plan", "Plan", "load_arm", "parse_arm", "default_arm", "example_arms", "FiveBar",
     "SerialArm", "Limits", "PenSpec", "workspace_map", "largest_rectangle", "JointStream",
     "check_stream", "load_image", "STYLES", "style_options", "fidelity", "Fidelity",
-    "plan_fidelity", "InkreachError", "__version__",
+    "plan_fidelity", "tone_likeness", "ToneLikeness", "STYLE_RENDERS", "InkreachError",
+    "__version__",
 ]

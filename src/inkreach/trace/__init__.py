@@ -15,11 +15,11 @@ from .simplify import polyline_lengths, simplify_polylines
 from .smooth import find_corners, smooth_polylines
 from .srgb import linear_to_srgb, srgb_to_linear
 from .stipple import stipple
-from .styles import STYLES, style_options, trace
+from .styles import STYLE_RENDERS, STYLES, style_options, trace
 
 __all__ = [
     "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
-    "trace", "STYLES", "style_options",
+    "trace", "STYLES", "STYLE_RENDERS", "style_options",
     "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
     "trace_skeleton", "trail_decomposition", "render_strokes",
     "simplify_polylines", "polyline_lengths", "smooth_polylines", "find_corners",

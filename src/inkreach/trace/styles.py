@@ -8,7 +8,7 @@ from .hatch import hatch
 from .outline import outline
 from .stipple import stipple
 
-__all__ = ["STYLES", "trace", "style_options"]
+__all__ = ["STYLES", "STYLE_RENDERS", "trace", "style_options"]
 
 STYLES = {
     "outline": outline,
@@ -16,6 +16,17 @@ STYLES = {
     "hatch": hatch,
     "stipple": stipple,
     "contour": contour,
+}
+
+#: What each style renders: ``"tone"`` (ink that adds up to the picture's
+#: tone when seen from a distance) or ``"lines"`` (edges, centre lines,
+#: tone boundaries drawn as lines).
+STYLE_RENDERS = {
+    "outline": "lines",
+    "centerline": "lines",
+    "hatch": "tone",
+    "stipple": "tone",
+    "contour": "lines",
 }
 
 
