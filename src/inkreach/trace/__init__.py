@@ -15,12 +15,13 @@ from .simplify import polyline_lengths, simplify_polylines
 from .smooth import find_corners, smooth_polylines
 from .srgb import linear_to_srgb, srgb_to_linear
 from .stipple import stipple
+from .wave import wave, zigzag_coverage
 from .styles import STYLE_RENDERS, STYLES, style_options, trace
 
 __all__ = [
     "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
     "trace", "STYLES", "STYLE_RENDERS", "style_options",
-    "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
+    "outline", "outline_edges", "centerline", "hatch", "stipple", "contour", "wave", "zigzag_coverage",
     "trace_skeleton", "trail_decomposition", "render_strokes",
     "simplify_polylines", "polyline_lengths", "smooth_polylines", "find_corners",
 ]

@@ -119,6 +119,15 @@ OPTIONS = {
         "contrast": (2.0, "1 follows the tone exactly; higher sets dark parts further apart "
                           "from light ones", _Number(0.1, 10.0)),
     },
+    "wave": {
+        "pen_px": _PEN,
+        "spacing": (None, "distance between rows in pixels (None: 8 pen widths)",
+                    _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
+        "smooth": (None, "blur of the tone along the rows, in pixels (None: one pen width)",
+                   _Number(0.0, 50.0, none_ok=True)),
+        "gamma": (1.0, "tone curve: 1 follows the picture, above 1 darker mid-tones, below 1 "
+                       "lighter", _Number(0.2, 5.0)),
+    },
     "contour": {
         "pen_px": _PEN,
         "levels": (6, "number of tone levels to draw lines at", _Number(1, 64, integer=True)),
