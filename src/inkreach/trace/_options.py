@@ -109,15 +109,17 @@ OPTIONS = {
     },
     "stipple": {
         "pen_px": _PEN,
-        "dots": (None, "number of dots (None: darkest parts get a dot every 2.5 pen widths; "
-                        "200 to 8000 dots)",
+        "dots": (None, "number of dots (None: filled dots about 5 pen widths across, at most "
+                        "6000; for touches, darkest parts get a dot every 2.5 pen widths)",
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
         "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
-        "mode": ("dots", "'dots' lifts the pen at every dot, 'line' joins them in one path",
-                 _Choice("dots", "line")),
+        "mode": ("dots", "'dots' fills each dot back and forth, as large as its share of "
+                         "the tone, 'touch' only touches the paper, 'line' joins the dot "
+                         "centres in one path", _Choice("dots", "touch", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),
-        "contrast": (2.0, "1 follows the tone exactly; higher sets dark parts further apart "
-                          "from light ones", _Number(0.1, 10.0)),
+        "contrast": (1.0, "dot density follows darkness to this power: 1 spreads dots in "
+                          "proportion to darkness, lower gives light parts more, smaller dots",
+                     _Number(0.1, 10.0)),
     },
     "wave": {
         "pen_px": _PEN,
