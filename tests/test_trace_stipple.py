@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from scipy.spatial import cKDTree
 
-from _pil_render import pil_coverage
+from _cv_render import cv_coverage
 from inkreach.trace import stipple
 from inkreach.trace.stipple import dot_zigzag, hex_disc_coverage
 
@@ -41,19 +41,19 @@ def test_hex_disc_coverage_matches_the_lattice_geometry():
 
 
 def test_a_filled_dot_inks_its_disc():
-    # ink of one dot, measured with Pillow: close to pi R^2 (12 % up to four pens across,
+    # ink of one dot, measured with OpenCV fills: close to pi R^2 (12 % up to four pens across,
     # 5 % from seven: our allowance for the scalloped rim of the back-and-forth fill)
     for r, tol in ((2.0, 0.12), (3.0, 0.12), (5.0, 0.05)):
-        cov = pil_coverage([dot_zigzag((15.0, 15.0), r, 1.4)], (31, 31), 1.4, scale=8)
+        cov = cv_coverage([dot_zigzag((15.0, 15.0), r, 1.4)], (31, 31), 1.4, scale=8)
         assert cov.sum() == pytest.approx(np.pi * r * r, rel=tol)
 
 
 @pytest.mark.parametrize("y", [0.2, 0.5, 0.8])
 def test_filled_dots_reach_the_murray_davies_coverage_of_a_flat_grey(y):
-    # Murray-Davies (A. Murray 1936): grey Y needs coverage 1 - Y; measured with Pillow
+    # Murray-Davies (A. Murray 1936): grey Y needs coverage 1 - Y; measured with OpenCV fills
     pen, n = 1.5, 160
     strokes = stipple(np.full((n, n), y, np.float32), pen_px=pen)
-    cov = pil_coverage(strokes, (n, n), pen, scale=6)[16:-16, 16:-16].mean()
+    cov = cv_coverage(strokes, (n, n), pen, scale=6)[16:-16, 16:-16].mean()
     assert cov == pytest.approx(1.0 - y, abs=0.06)      # an allowance of our own
 
 

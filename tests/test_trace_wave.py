@@ -4,24 +4,24 @@ import numpy as np
 import pytest
 from skimage import data
 
-from _pil_render import pil_coverage
+from _cv_render import cv_coverage
 from inkreach.fidelity import tone_likeness_images
 from inkreach.trace import load_image, render_strokes, trace, wave, zigzag_coverage
 
 
 def test_a_circle_of_exact_area_comes_out_of_the_pillow_renderer():
     # the independent renderer itself: a dot of diameter 6 px covers pi * 3^2 px^2
-    cov = pil_coverage([np.array([[10.0, 10.0]])], (21, 21), 6.0, scale=16)
+    cov = cv_coverage([np.array([[10.0, 10.0]])], (21, 21), 6.0)
     assert cov.sum() == pytest.approx(np.pi * 9.0, rel=0.01)
 
 
 @pytest.mark.parametrize("y", [0.1, 0.25, 0.4, 0.55, 0.7])
 def test_flat_grey_gets_the_murray_davies_coverage(y):
     # Murray-Davies (A. Murray 1936): black ink covering a of the paper reflects 1 - a, so a
-    # flat grey Y needs coverage 1 - Y; measured with Pillow, not the project's renderer.
+    # flat grey Y needs coverage 1 - Y; measured with OpenCV fills, not the project's renderer.
     pen, h, w = 2.0, 160, 160
     strokes = wave(np.full((h, w), y, np.float32), pen_px=pen)
-    cov = pil_coverage(strokes, (h, w), pen)
+    cov = cv_coverage(strokes, (h, w), pen)
     inner = cov[24:-24, 24:-24].mean()
     # 0.04: an allowance of this project for the measured zig-zag table and row ends
     assert inner == pytest.approx(1.0 - y, abs=0.04)
@@ -30,7 +30,7 @@ def test_flat_grey_gets_the_murray_davies_coverage(y):
 def test_the_lightest_tone_is_one_straight_row_per_spacing():
     pen = 2.0
     strokes = wave(np.full((160, 160), 0.97, np.float32), pen_px=pen)
-    cov = pil_coverage(strokes, (160, 160), pen)
+    cov = cv_coverage(strokes, (160, 160), pen)
     # nearly straight rows every 8 pens ink about 1/8 of the paper (the style's lightest)
     assert cov[24:-24, 24:-24].mean() == pytest.approx(1.0 / 8.0, abs=0.02)
 
@@ -72,3 +72,12 @@ def test_gamma_darkens_and_a_white_picture_is_refused():
     assert b > a + 0.1
     with pytest.raises(InkreachError):
         wave(np.ones((50, 50), np.float32))
+
+
+@pytest.mark.parametrize("pen", [1.5, 2.0, 3.0])
+def test_the_independent_renderer_gives_a_round_ended_rectangle_its_exact_area(pen):
+    # a segment of length L drawn with a round pen of width w covers w L + pi w^2 / 4
+    seg = [np.array([[10.3, 12.1], [47.9, 31.4]])]
+    L = float(np.hypot(37.6, 19.3))
+    cov = cv_coverage(seg, (45, 60), pen)
+    assert cov.sum() == pytest.approx(pen * L + np.pi * pen * pen / 4, rel=0.01)

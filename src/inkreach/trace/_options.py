@@ -101,7 +101,8 @@ OPTIONS = {
                           "ink matches the picture)", _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
         "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
-        "levels": (12, "how many tone steps are told apart", _Number(2, 64, integer=True)),
+        "levels": (32, "how many tone steps are told apart (32 matches the line lattice's "
+                       "own steps)", _Number(2, 64, integer=True)),
         "smooth": (None, "blur of the tones before hatching, in pixels (None: 1.5 pen widths)",
                    _Number(0.0, 50.0, none_ok=True)),
         "min_length": (None, "drop hatch pieces shorter than this many pixels (None: 4 pen widths)",

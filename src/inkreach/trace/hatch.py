@@ -311,7 +311,39 @@ def _hatch_layer(density, angle, spacing, pen, min_run, gap, quant):
     return _join_ends(chains, _HOP * spacing, region)
 
 
-def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smooth=None,
+def _layers_to_strokes(fields, pen, o, min_run, quant):
+    strokes = []
+    for j, (density, s) in enumerate(fields):
+        if not density.any():
+            continue
+        ang = o["angle"] + _LAYER_OFFSETS[j]
+        strokes += _hatch_layer(density.astype(np.float32), ang, s, pen, min_run, pen, quant)
+    return strokes
+
+
+def _tone_hatch(tone, pen, o, min_run):
+    """Strokes whose line density is set per pixel from the tone."""
+    fractions = _layer_fractions(tone, o["layers"], pen)
+    # Each layer's lattice is as dense as its darkest part needs (at most
+    # _MAX_FRACTION of the paper, except the last layer for near-black).
+    caps = [max(_MAX_FRACTION, float(f.max())) for f in fractions]
+    fields = [(f / c, pen / min(c, 1.0)) for f, c in zip(fractions, caps) if c > 0]
+    return _layers_to_strokes(fields, pen, o, min_run, o["levels"])
+
+
+def _fixed_hatch(tone, pen, o, min_run):
+    """Strokes on fixed-spacing lattices, one more layer per tone step."""
+    L, s = o["layers"], o["spacing"]
+    f = min(pen / s, 1.0)
+    cov = 1.0 - (1.0 - f) ** np.arange(L + 1)
+    level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
+    level = _clean(level, pen)
+    level[tone < _MIN_TONE] = 0
+    fields = [((level >= j + 1).astype(np.float64), s) for j in range(L)]
+    return _layers_to_strokes(fields, pen, o, min_run, 0)
+
+
+def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smooth=None,
           min_length=None):
     """Draw tone with parallel hatching, crossed for darker tones.
 
@@ -402,28 +434,9 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     if sigma > 0:
         tone = _smoothed(tone, sigma)
     min_run = 4.0 * pen if o["min_length"] is None else o["min_length"]
-    L = o["layers"]
     if o["spacing"] is None:
         tone[tone < _MIN_TONE] = 0.0
-        fractions = _layer_fractions(tone, L, pen)
-        # Each layer's lattice is as dense as its darkest part needs (at most
-        # _MAX_FRACTION of the paper, except the last layer for near-black).
-        caps = [max(_MAX_FRACTION, float(f.max())) for f in fractions]
-        fields = [(f / c, pen / min(c, 1.0)) for f, c in zip(fractions, caps) if c > 0]
-        quant = o["levels"]
+        strokes = _tone_hatch(tone, pen, o, min_run)
     else:
-        s = o["spacing"]
-        f = min(pen / s, 1.0)
-        cov = 1.0 - (1.0 - f) ** np.arange(L + 1)
-        level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
-        level = _clean(level, pen)
-        level[tone < _MIN_TONE] = 0
-        fields = [((level >= j + 1).astype(np.float64), s) for j in range(L)]
-        quant = 0
-    strokes = []
-    for j, (density, s) in enumerate(fields):
-        if not density.any():
-            continue
-        ang = o["angle"] + _LAYER_OFFSETS[j]
-        strokes += _hatch_layer(density.astype(np.float32), ang, s, pen, min_run, pen, quant)
+        strokes = _fixed_hatch(tone, pen, o, min_run)
     return finish(strokes, "hatch", 0.0, 0.0)
