@@ -124,7 +124,7 @@ OPTIONS = {
     },
     "wave": {
         "pen_px": _PEN,
-        "spacing": (None, "distance between rows in pixels (None: 8 pen widths)",
+        "spacing": (None, "distance between rows in pixels (None: 9 pen widths)",
                     _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
         "smooth": (None, "blur of the tone along the rows, in pixels (None: one pen width)",
                    _Number(0.0, 50.0, none_ok=True)),

@@ -14,7 +14,7 @@ _LIGHTEST = 0.02     # tone below which a row runs straight (common practice)
 _MIN_STEP = 0.45     # closest turns, pen widths: the ink is solid by then
 _LONGEST = 16.0     # longest distance between turns, in row spacings (lighter
                      # tones are all drawn as this, nearly straight)
-_SPACING = 8.0     # default distance between rows, pen widths: long legs draw fast
+_SPACING = 9.0     # default distance between rows, pen widths: long legs draw fast
 
 
 def _zigzag_rows(step, band, pen, width, rows, phases):
@@ -152,7 +152,7 @@ def wave(lum, *, pen_px=2.0, spacing=None, smooth=None, gamma=1.0):
     pen_px : float, optional
         Pen width in working pixels.
     spacing : float, optional
-        Distance between rows in pixels; default 8 pen widths.  A row that
+        Distance between rows in pixels; default 9 pen widths.  A row that
         runs straight inks ``pen_px / spacing`` of the paper, the lightest
         tone the style draws.
     smooth : float, optional
