@@ -64,3 +64,12 @@ def test_dark_dots_are_chained_into_few_strokes():
     dots = sum(1 for s in strokes for _ in [0])
     assert len(strokes) < 0.1 * stipple(lum, pen_px=pen, mode="touch").__len__() + 10
     assert dots == len(strokes)
+
+
+def test_filled_dots_close_up_into_black_for_the_darkest_tones():
+    # a near-black patch (Y = 0.03, coverage 0.97 by Murray-Davies): the dots must close up
+    # rather than leave the gaps of a loose packing (0.907 at best for touching discs)
+    pen, n = 1.5, 160
+    strokes = stipple(np.full((n, n), 0.03, np.float32), pen_px=pen)
+    cov = cv_coverage(strokes, (n, n), pen, scale=6)[16:-16, 16:-16].mean()
+    assert cov >= 0.95

@@ -23,6 +23,9 @@ _DOT_PENS = 5.0       # filled dots: mean diameter, pen widths (smaller dots blu
                       # into tone better but cost more pen lifts)
 _MAX_FILLED = 6000    # filled dots at most
 _PITCH = 0.9          # dot fill lines apart, pen widths: overlapping a little, so solid
+_CLOSE_FROM = 0.85    # cells darker than this: dots grow towards the cell's far corner,
+_CLOSE_GROW = 1.1     # up to this many times their area-true radius (our choice, by
+                      # the tone figures on scikit-image's camera photo)
 _CHAIN_GAP = 1.0      # dots closer than this many pen widths, edge to edge, are
                       # joined pen-down (the hop inks little more than a dot's rim)
 
@@ -129,14 +132,17 @@ def dot_zigzag(centre, radius, pen_px, pitch=_PITCH):
 
 
 def _cell_ink(ink, pts):
-    """Ink (sum of ``ink`` over pixels) and area (pixels) of each dot's Voronoi cell."""
+    """Ink (sum of ``ink`` over pixels), area (pixels) and reach (the farthest
+    pixel's distance, plus half a pixel) of each dot's Voronoi cell."""
     h, w = ink.shape
     ys, xs = np.mgrid[:h, :w]
-    _, idx = cKDTree(pts).query(np.stack([xs.ravel(), ys.ravel()], axis=1).astype(float),
-                                workers=-1)
+    dist, idx = cKDTree(pts).query(np.stack([xs.ravel(), ys.ravel()], axis=1).astype(float),
+                                   workers=-1)
     n = len(pts)
+    far = np.zeros(n)
+    np.maximum.at(far, idx, dist)
     return (np.bincount(idx, ink.ravel().astype(np.float64), minlength=n),
-            np.bincount(idx, minlength=n).astype(np.float64))
+            np.bincount(idx, minlength=n).astype(np.float64), far + 0.5)
 
 
 def hex_disc_coverage(radius, spacing):
@@ -186,14 +192,18 @@ def _filled_dots(ink, pts, pen, rng):
     """Filled dots inking each Voronoi cell's ink, chained where dots nearly touch."""
     from ..route import order_points
 
-    area, cell = _cell_ink(ink, pts)
+    area, cell, far = _cell_ink(ink, pts)
     touch = np.pi * (0.5 * pen) ** 2
     # a cell with less ink than one touch of the pen is inked or left bare at
     # random, in proportion, so the tone stays right on average
     small = area < touch
     keep = ~small | (rng.uniform(size=len(pts)) < area / touch)
-    pts, area, cell = pts[keep], np.maximum(area[keep], touch), cell[keep]
+    pts, area, cell, far = pts[keep], np.maximum(area[keep], touch), cell[keep], far[keep]
     radius = np.maximum(_dot_radius(area, cell), 0.5 * pen)
+    # Lloyd's cells are only nearly hexagonal: for the darkest tones the dot
+    # grows towards its cell's farthest corner, so the cell really closes up
+    t = np.clip((area / np.maximum(cell, 1e-9) - _CLOSE_FROM) / (1.0 - _CLOSE_FROM), 0.0, 1.0)
+    radius = (1.0 - t) * radius + t * np.clip(far, radius, _CLOSE_GROW * radius)
     if len(pts) == 0:
         return []
     order = np.asarray(order_points(pts), dtype=np.intp)
@@ -218,7 +228,9 @@ def stipple(lum, *, pen_px=2.0, dots=None, iterations=20, mode="dots", seed=0,
     Dots are spread with a density proportional to ``(1 - Y)**contrast``
     (Secord's rule for ``contrast = 1``), and in the default mode each dot
     is a small filled disc inking exactly the ink ``1 - Y`` of its
-    Voronoi cell (Murray-Davies), so dark parts really come out dark.
+    Voronoi cell (Murray-Davies; where neighbouring dots overlap, by the
+    overlap of discs on a hexagonal lattice, `hex_disc_coverage`, and the
+    darkest cells close up), so dark parts really come out dark.
 
     Parameters
     ----------
