@@ -29,7 +29,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(HERE), "src"))
 
 from _stages import T, end_to_end, reference_workload, run_stages  # noqa: E402
 
-STYLES = ("outline", "centerline", "hatch", "stipple", "contour")
+STYLES = ("outline", "centerline", "hatch", "stipple", "contour", "wave")
 
 FULL = dict(runs=3, sizes_mp=(0.25, 1.0, 4.0), memory_mp=(1.0, 12.0),
             growth_sides=(300, 600, 1200, 2400), growth_styles=("outline", "hatch", "stipple"),
@@ -481,6 +481,8 @@ def main(argv=None):
     run("Route: pen-up travel against baselines", section_route, cfg, results)
     run("Kinematics throughput", section_kinematics, cfg, results)
     run("Drawing time and fidelity per style", section_drawing, cfg, results)
+    import bench_tone
+    run(bench_tone.TITLE, bench_tone.section, cfg)
     targets = f"## Targets\n\n{section_targets(results)}\n"
     total = T() - t0
     text = "\n".join(parts) + "\n" + targets + "\n" + "\n".join(body) + \

@@ -1,6 +1,7 @@
 import numpy as np
 import pytest
 
+from _cv_render import cv_coverage
 from inkreach.trace import hatch, render_strokes
 from inkreach.trace.hatch import layer_fraction
 
@@ -17,14 +18,16 @@ def _wedge(height=160):
 def test_hatch_ink_coverage_matches_tone_on_a_step_wedge(pen_px):
     # Murray-Davies (Murray 1936): black ink covering a fraction a of white
     # paper reflects Y = 1 - a, so each band needs coverage 1 - Y.  Coverage
-    # measured by drawing the strokes with a round pen of the same width.
+    # measured by drawing the strokes with a round pen of the same width with
+    # OpenCV's filled polygons and discs at 24 sub-pixels a pixel (not the
+    # project's renderer).  0.03: the bound this project promises.
     lum = _wedge()
     strokes = hatch(lum, pen_px=pen_px)
-    cov = render_strokes(strokes, lum.shape, pen_px)
+    cov = cv_coverage(strokes, lum.shape, pen_px)
     m = 10   # stay clear of the joins along band edges
     for i, y in enumerate(_YS):
         band = cov[m:-m, i * _BAND + m:(i + 1) * _BAND - m]
-        assert band.mean() == pytest.approx(1 - y, abs=0.05), (i, y)
+        assert band.mean() == pytest.approx(1 - y, abs=0.03), (i, y)
 
 
 def test_crossed_layer_relation():

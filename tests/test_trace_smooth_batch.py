@@ -126,7 +126,8 @@ def _sharpen(q, corners, z):
     left the junction; for a corner with ``4 z`` samples of arm on both
     sides the samples within ``2 z`` of it are replaced by the intersection
     of lines fitted to the arms, if both arms are straight (RMS residual
-    under 0.35 px) and the meeting point lies within ``2 z`` of the corner.
+    under 0.35 px) and the meeting point lies within ``2 z`` of the corner
+    (3 px for bent arms).
     Returns the new points, one per corner, or None where left alone.
     """
     n = len(q)
@@ -145,7 +146,15 @@ def _sharpen(q, corners, z):
             continue
         t = np.linalg.solve(A, p2 - p1)
         x = p1 + t[0] * d1
-        out.append(x if np.hypot(*(x - q[c])) <= 2 * z else None)
+        # bent arms (halves more than 5 degrees apart, or a fit residual over 0.2 px)
+        # let the corner move at most 3 px
+        bent = max(e1, e2) > 0.2
+        for a0 in (c - 4 * z, c + 2 * z):
+            _, da, _ = _arm_line(q, a0, a0 + z)
+            _, db, _ = _arm_line(q, a0 + z, a0 + 2 * z)
+            bent |= np.arccos(min(1.0, abs(float(da @ db)))) > np.radians(5.0)
+        reach = min(2 * z, 3.0) if bent else 2 * z
+        out.append(x if np.hypot(*(x - q[c])) <= reach else None)
     return out
 
 

@@ -75,7 +75,7 @@ def test_unknown_option_lists_the_valid_ones():
     ("contour", "levels", 0, "at least 1"),
     ("outline", "detail", "lots", "a number"),
     ("centerline", "threshold", "bright", "'otsu'"),
-    ("stipple", "mode", "spiral", "dots, line"),
+    ("stipple", "mode", "spiral", "dots, touch, line"),
     ("hatch", "pen_px", float("nan"), "above 0"),
 ])
 def test_bad_option_values_say_the_valid_range(style, option, value, words):
@@ -110,7 +110,7 @@ def test_trace_accepts_a_picture():
 def test_stipple_dots_are_single_points_and_follow_the_tone():
     lum = np.ones((100, 100), np.float32)
     lum[:, :50] = 0.0
-    strokes = stipple(lum, dots=400)
+    strokes = stipple(lum, dots=400, mode="touch")
     assert len(strokes) == 400 and all(s.shape == (1, 2) for s in strokes)
     x = np.concatenate(strokes)[:, 0]
     assert (x < 51).mean() > 0.95
@@ -121,7 +121,8 @@ def test_stipple_density_follows_ink_with_contrast_one():
     # the ink 1 - Y.  Two halves with ink 0.8 and 0.2 get dots 4 : 1.
     lum = np.full((120, 240), 0.2, np.float32)
     lum[:, 120:] = 0.8
-    x = np.concatenate(stipple(lum, dots=1000, contrast=1.0, iterations=40))[:, 0]
+    x = np.concatenate(stipple(lum, dots=1000, contrast=1.0, iterations=40,
+                               mode="touch"))[:, 0]
     ratio = (x < 119.5).sum() / (x >= 119.5).sum()
     assert ratio == pytest.approx(4.0, rel=0.2)
 
@@ -129,7 +130,7 @@ def test_stipple_density_follows_ink_with_contrast_one():
 def test_stipple_line_mode_is_one_stroke_through_every_dot():
     pytest.importorskip("inkreach.route")
     lum = np.linspace(0, 1, 80 * 80, dtype=np.float32).reshape(80, 80)
-    dots = np.concatenate(stipple(lum, dots=300, seed=3))
+    dots = np.concatenate(stipple(lum, dots=300, seed=3, mode="touch"))
     (path,) = stipple(lum, dots=300, seed=3, mode="line")
     assert path.shape == (300, 2)
     np.testing.assert_allclose(np.sort(path, axis=0), np.sort(dots, axis=0))

@@ -26,6 +26,7 @@ _LAZY = {
     "JointStream": ".motion", "check_stream": ".motion",
     "load_image": ".trace", "STYLES": ".trace", "style_options": ".trace",
     "fidelity": ".fidelity", "Fidelity": ".fidelity", "plan_fidelity": ".fidelity",
+    "tone_likeness": ".fidelity", "ToneLikeness": ".fidelity", "STYLE_RENDERS": ".trace",
 }
 
 __all__ = sorted(_LAZY) + ["InkreachError", "__version__"]

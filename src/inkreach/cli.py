@@ -12,7 +12,7 @@ from .errors import InkreachError
 
 __all__ = ["main"]
 
-_STYLES = ("outline", "centerline", "hatch", "stipple", "contour")
+_STYLES = ("outline", "centerline", "hatch", "stipple", "contour", "wave")
 
 _PLAN_EXAMPLE = """\
 examples:
@@ -73,7 +73,8 @@ def _add_plan_options(p):
                    help="how the picture becomes pen lines: outline (edges of a photo), "
                         "centerline (middle of drawn lines, for logos and text), hatch "
                         "(tone by parallel lines), stipple (tone by dots or one long line), "
-                        "contour (lines of equal tone); default outline")
+                        "contour (lines of equal tone), wave (tone by one zig-zag line); "
+                        "default outline")
     p.add_argument("--out", "-o", default="inkreach-out", metavar="DIR",
                    help="folder for the output files (default ./inkreach-out)")
     p.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",

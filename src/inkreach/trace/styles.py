@@ -7,8 +7,9 @@ from .contour import contour
 from .hatch import hatch
 from .outline import outline
 from .stipple import stipple
+from .wave import wave
 
-__all__ = ["STYLES", "trace", "style_options"]
+__all__ = ["STYLES", "STYLE_RENDERS", "trace", "style_options"]
 
 STYLES = {
     "outline": outline,
@@ -16,6 +17,19 @@ STYLES = {
     "hatch": hatch,
     "stipple": stipple,
     "contour": contour,
+    "wave": wave,
+}
+
+#: What each style renders: ``"tone"`` (ink that adds up to the picture's
+#: tone when seen from a distance) or ``"lines"`` (edges, centre lines,
+#: tone boundaries drawn as lines).
+STYLE_RENDERS = {
+    "outline": "lines",
+    "centerline": "lines",
+    "hatch": "tone",
+    "stipple": "tone",
+    "contour": "lines",
+    "wave": "tone",
 }
 
 
@@ -55,7 +69,7 @@ def trace(lum, style="outline", **options):
         Linear luminance in [0, 1] (1 = white paper).
     style : str, optional
         One of ``outline``, ``centerline``, ``hatch``, ``stipple``,
-        ``contour``.
+        ``contour``, ``wave``.
     **options
         The style's options, see `style_options`.
 
