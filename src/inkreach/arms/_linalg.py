@@ -4,6 +4,10 @@ import numpy as np
 
 __all__ = ["inverse_condition", "circle_intersection", "wrap_into"]
 
+# rad: how far outside a joint limit an angle still counts as on it (float
+# round-off of the kinematics); within_limits uses the same.
+LIMIT_TOL = 1e-9
+
 
 def inverse_condition(J):
     """Inverse condition number ``sigma_min / sigma_max`` of 2 x 2 matrices.

@@ -5,9 +5,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._base import Arm
-from ._linalg import circle_intersection, cross2, wrap_into
+from ._linalg import LIMIT_TOL, circle_intersection, cross2, wrap_into
 
 __all__ = ["FiveBar"]
+
+# Smallest accepted sine-like measure of the assembly, relative to
+# left_lower * right_lower: below it the two elbows (nearly) coincide and the
+# pen joint is not determined by the angles (the distal links overlap).
+_ASSEMBLY_EPS = 1e-9
 
 
 @dataclass(frozen=True, eq=False)
@@ -143,9 +148,12 @@ class FiveBar(Arm):
         -------
         ndarray, shape (N, 2) or (2,)
             ``(theta1, theta2)`` in radians, each wrapped into
-            ``[lower limit, lower limit + 2 pi)``; NaN where a leg cannot
-            reach or where the linkage would assemble the other way (its
-            forward kinematics would then give a different point).
+            ``[lower limit - 1e-9, lower limit - 1e-9 + 2 pi)`` (so an angle
+            on a limit stays there instead of jumping by 2 pi); NaN where a
+            leg cannot reach, where the linkage would assemble the other way
+            (its forward kinematics would then give a different point), or
+            where the two elbows coincide (the pen joint is then not
+            determined by the angles).
         """
         p = np.asarray(p, dtype=float)
         single = p.ndim == 1
@@ -160,11 +168,11 @@ class FiveBar(Arm):
         eR = circle_intersection(mR, self.right_upper, P, self.right_lower, -sgn)
         with np.errstate(invalid="ignore"):
             # Assembly check: P must lie left of elbow_L -> elbow_R.
-            ok = cross2(eR - eL, P - eL) > 0
+            ok = cross2(eR - eL, P - eL) > _ASSEMBLY_EPS * self.left_lower * self.right_lower
         t1 = np.arctan2(eL[:, 1] - mL[1], eL[:, 0] - mL[0])
         t2 = np.arctan2(eR[:, 1] - mR[1], eR[:, 0] - mR[0])
-        q = np.stack([wrap_into(t1, self.limits.theta1[0]),
-                      wrap_into(t2, self.limits.theta2[0])], axis=1)
+        q = np.stack([wrap_into(t1, self.limits.theta1[0] - LIMIT_TOL),
+                      wrap_into(t2, self.limits.theta2[0] - LIMIT_TOL)], axis=1)
         q[~ok] = np.nan
         return q[0] if single else q
 
