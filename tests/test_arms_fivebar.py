@@ -2,7 +2,7 @@
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, assume, given, settings, strategies as st
+from hypothesis import HealthCheck, assume, example, given, settings, strategies as st
 from scipy.optimize import least_squares
 
 from inkreach.arms import FiveBar, Limits, default_arm, load_arm
@@ -56,9 +56,19 @@ def arms_and_points(draw):
     return arm, q
 
 
+# Both elbows "in" with the pen at the point of q = (0, 0): the right leg's
+# configured elbow coincides with the left elbow, the distal links overlap and
+# the angles do not determine the pen joint. IK once answered (0, -180) deg,
+# whose FK is (60, 0), not the point: it must give NaN.
+_DEGENERATE = FiveBar(left_motor=(-44.0, 0.0), right_motor=(44.0, 0.0), left_upper=44.0,
+                      right_upper=44.0, left_lower=60.0, right_lower=60.0, elbows="in",
+                      limits=WIDE)
+
+
 @settings(max_examples=300, deadline=None,
           suppress_health_check=[HealthCheck.filter_too_much, HealthCheck.too_slow])
 @given(arms_and_points())
+@example((_DEGENERATE, np.array([0.0, 0.0])))
 def test_ik_then_fk_returns_the_point(sample):
     arm, q = sample
     p = arm.fk(q)
@@ -86,6 +96,25 @@ def test_fk_then_ik_recovers_angles_in_the_matching_mode(sample):
     q2 = arm.ik(p)
     d = np.angle(np.exp(1j * (q2 - q)))
     np.testing.assert_allclose(d, 0.0, atol=1e-6)
+
+
+def test_ik_gives_nan_where_the_elbows_coincide():
+    p = _DEGENERATE.fk(np.array([0.0, 0.0]))
+    # by hand: elbows (0, 0) and (88, 0), pen joint at (44, sqrt(60^2 - 44^2))
+    np.testing.assert_allclose(p, [44.0, np.sqrt(60.0 ** 2 - 44.0 ** 2)], atol=1e-12)
+    assert np.isnan(_DEGENERATE.ik(p)).all()
+    assert not _DEGENERATE.reachable(p)
+
+
+@pytest.mark.parametrize("deg", [[120.0, -30.0], [210.0, 100.0], [30.0, 120.0]])
+def test_ik_keeps_an_angle_on_its_limit(deg):
+    # The desk arm's limits are theta1 [30, 210], theta2 [-30, 150] deg: a
+    # posture exactly on a limit must come back on it, not 360 deg away.
+    arm = default_arm()
+    q = np.deg2rad(deg)
+    back = arm.ik(arm.fk(q))
+    np.testing.assert_allclose(back, q, atol=1e-9)
+    assert arm.within_limits(back)
 
 
 def test_analytic_jacobian_equals_central_differences():
