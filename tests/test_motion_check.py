@@ -116,3 +116,50 @@ def test_touch_down_away_from_the_stroke_start_is_caught():
     shifted = [LINE[0] + [0.0, 0.03]]  # within chord_tol, but the touch-down must be exact
     with pytest.raises(InkreachError, match=r"touches down 0\.0300 mm from the start of stroke 0"):
         check_stream(GOOD, ARM, strokes=shifted)
+
+
+def _rest(deg, n=3):
+    q = np.repeat(np.deg2rad([deg]), n, axis=0)
+    return JointStream(t=np.arange(n) * 0.02, q=q, pen=np.zeros(n, np.int8), xy=ARM.fk(q),
+                       period=0.02, stroke=np.full(n, -1))
+
+
+@pytest.mark.parametrize("deg,name", [
+    # 1e-3 deg past each limit of the desk arm (theta1 [30, 210], theta2 [-30, 150]):
+    # far above the 1e-8 rad rounding allowance, far below any real mistake
+    ((120.0, -30.0 - 1e-3), "theta2"), ((140.0, 150.0 + 1e-3), "theta2"),
+    ((30.0 - 1e-3, 60.0), "theta1"), ((210.0 + 1e-3, 100.0), "theta1")])
+def test_each_joint_just_past_its_limit_is_caught(deg, name):
+    with pytest.raises(InkreachError, match=rf"row 0 .*: {name} = .* outside the limits"):
+        check_stream(_rest(deg), ARM)
+    # and the same posture on the limit passes the joint test
+    on = np.clip(deg, np.rad2deg(ARM.limits.lower), np.rad2deg(ARM.limits.upper))
+    try:
+        check_stream(_rest(on), ARM)
+    except InkreachError as e:       # a limit posture may fail a later rule, not this one
+        assert "outside the limits" not in str(e)
+
+
+def test_conditioning_just_below_the_floor_is_caught():
+    # Bisect along theta2 from a well-conditioned posture towards the folded
+    # singularity for a posture whose conditioning is 1e-3 under the floor.
+    floor = ARM.limits.min_conditioning
+    lo, hi = 60.0, 150.0               # conditioning above / below the floor
+    assert ARM.conditioning(np.deg2rad([120.0, lo])) > floor
+    assert ARM.conditioning(np.deg2rad([120.0, hi])) < floor - 1e-3
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        c = ARM.conditioning(np.deg2rad([120.0, mid]))
+        lo, hi = (mid, hi) if c > floor - 1e-3 else (lo, mid)
+    c = ARM.conditioning(np.deg2rad([120.0, hi]))
+    assert floor - 2e-3 < c < floor
+    with pytest.raises(InkreachError, match=r"conditioning 0\.299 is below the floor 0\.3"):
+        check_stream(_rest((120.0, hi)), ARM)
+
+
+def test_lift_away_from_the_stroke_end_is_caught():
+    # The end moved 0.03 mm further along the line: every row is still on the
+    # stroke and the touch-down exact, but the pen lifts short of the end.
+    longer = [np.array([[-30.0, 150.0], [30.03, 150.0]])]
+    with pytest.raises(InkreachError, match=r"lifts 0\.0300 mm from the end of stroke 0"):
+        check_stream(GOOD, ARM, strokes=longer)
