@@ -7,7 +7,7 @@ import pytest
 from PIL import Image, ImageFile
 
 from inkreach.errors import InkreachError
-from inkreach.trace import Picture, load_image, srgb_to_linear
+from inkreach.trace import Picture, load_image
 
 
 def _png_chunk(kind, data):
@@ -15,12 +15,55 @@ def _png_chunk(kind, data):
     return struct.pack(">I", len(data)) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
 
 
+def _iec_decode(c):
+    """sRGB decoding written out from IEC 61966-2-1:1999 section 5.2."""
+    c = np.asarray(c, dtype=float)
+    return np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+
+
+# 8-bit grey levels and their decoded values, evaluated from IEC 61966-2-1:1999
+# section 5.2 (10 falls on the linear segment, the others on the power law).
+_GREY = [(0, 0.0), (10, 0.0030353), (64, 0.0512695), (128, 0.2158605), (188, 0.5028865),
+         (255, 1.0)]
+
+
+def _grey_blocks(levels, dtype=np.uint8):
+    return np.repeat(np.repeat(np.array([levels], dtype), 8, axis=0), 8, axis=1)
+
+
+@pytest.mark.parametrize("how", ["png-L", "array-uint8", "array-float"])
+def test_grey_pictures_are_decoded_as_srgb(tmp_path, how):
+    levels = [v for v, _ in _GREY]
+    want = np.repeat([w for _, w in _GREY], 8)
+    a = _grey_blocks(levels)
+    if how == "png-L":
+        path = tmp_path / "grey.png"
+        Image.fromarray(a, mode="L").save(path)
+        assert Image.open(path).mode == "L"
+        src = path
+    elif how == "array-uint8":
+        src = a
+    else:
+        src = a / 255.0
+    y = load_image(src).luminance
+    np.testing.assert_allclose(y[0], want, atol=2e-6)
+
+
+def test_sixteen_bit_grey_is_decoded_as_srgb(tmp_path):
+    # 30000 / 65535 decodes to 0.1770148 (IEC 61966-2-1 power-law piece)
+    a = np.full((16, 16), 30000, np.uint16)
+    path = tmp_path / "grey16.png"
+    Image.fromarray(a).save(path)
+    assert load_image(path).luminance[0, 0] == pytest.approx(0.1770148, abs=2e-6)
+
+
 def test_load_gives_linear_luminance_with_rec709_weights():
-    # Rec. 709 / sRGB: Y = 0.2126 R + 0.7152 G + 0.0722 B of linear values.
+    # Rec. 709 / sRGB: Y = 0.2126 R + 0.7152 G + 0.0722 B of linear values
+    # (IEC 61966-2-1 Annex / ITU-R BT.709), decoded by the standard's formula.
     a = np.zeros((10, 10, 3), np.uint8)
     a[..., 0], a[..., 1], a[..., 2] = 200, 100, 50
     y = load_image(a).luminance
-    lin = srgb_to_linear(np.array([200, 100, 50]) / 255.0)
+    lin = _iec_decode(np.array([200, 100, 50]) / 255.0)
     assert y.dtype == np.float32
     np.testing.assert_allclose(y, 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2], atol=1e-6)
 
@@ -63,7 +106,7 @@ def test_sixteen_bit_png_keeps_its_levels(tmp_path):
     path = tmp_path / "deep.png"
     Image.fromarray(a).save(path)
     y = load_image(path).luminance
-    np.testing.assert_allclose(y[0], srgb_to_linear(a[0] / 65535.0), atol=1e-5)
+    np.testing.assert_allclose(y[0], _iec_decode(a[0] / 65535.0), atol=1e-5)
 
 
 def test_cmyk_jpeg_is_read(tmp_path):
