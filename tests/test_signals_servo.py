@@ -71,6 +71,20 @@ def test_servo_defaults_are_common_practice_500_to_2500_over_180_degrees():
     np.testing.assert_allclose(cal.pulse(0, [0.0, 90.0, 180.0]), [500.0, 1500.0, 2500.0])
 
 
+def test_an_arm_without_a_servo_table_gets_500_to_2500_us_centred_on_its_limits():
+    # Common practice (hobby servos): 500 us at one end of a 180 deg turn, 1500 us
+    # at its centre, 2500 us at the other end, rising with the angle; centred on
+    # the middle of each joint's limits. Written out for the desk arm's limits
+    # theta1 [30, 210] deg (centre 120) and theta2 [-30, 150] deg (centre 60):
+    # pulse = 1500 + (angle - centre) * 2000 / 180.
+    cal = servo_calibration_from_arm(_bare_default())
+    for motor, centre in ((0, 120.0), (1, 60.0)):
+        ang = centre + np.array([-90.0, -45.0, 0.0, 30.0, 90.0])
+        np.testing.assert_allclose(cal.pulse(motor, ang),
+                                   1500.0 + (ang - centre) * 2000.0 / 180.0, atol=1e-9)
+        np.testing.assert_allclose(cal.pulse(motor, [centre - 90, centre + 90]), [500, 2500])
+
+
 def test_servo_pulses_refuse_angles_outside_the_table():
     s = _stream_of_deg([[10.0, 10.0], [181.0, 10.0]])
     with pytest.raises(InkreachError, match="motor 1 angle 181.000 deg is outside"):
