@@ -230,3 +230,23 @@ def test_many_points_at_once():
     ok = np.isfinite(q[:, 0])
     np.testing.assert_allclose(arm.fk(q[ok]), pts[ok], atol=1e-7)
     assert arm.reachable(pts).shape == (100_000,)
+
+
+@pytest.mark.parametrize("name", ["default", "wide"])
+def test_ik_conditioning_equals_ik_then_conditioning_and_an_svd(name):
+    arm = load_arm(name)
+    pts = np.random.default_rng(8).uniform([-250, -50], [250, 300], (20_000, 2))
+    q, c = arm.ik_conditioning(pts)
+    np.testing.assert_array_equal(q, arm.ik(pts))
+    # the elbows found by IK and those assembled from the angles differ by
+    # rounding; near a singularity that moves the ratio by up to ~1e-13
+    np.testing.assert_allclose(c, arm.conditioning(q), rtol=0, atol=1e-12)
+    np.testing.assert_allclose(arm.conditioning_at(pts), c, rtol=0, atol=0)
+    ok = np.isfinite(q[:, 0])
+    assert 1000 < ok.sum() < len(pts)          # both reachable and unreachable points
+    # numpy's SVD of the analytic Jacobian (Golub & Van Loan 2013, sec. 2.4)
+    s = np.linalg.svd(arm.jacobian(q[ok]), compute_uv=False)
+    fin = np.isfinite(s).all(axis=1)
+    np.testing.assert_allclose(c[ok][fin], s[fin, 1] / s[fin, 0], atol=1e-9)
+    q1, c1 = arm.ik_conditioning(pts[3])
+    assert q1.shape == (2,) and c1.shape == ()
