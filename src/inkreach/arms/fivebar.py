@@ -13,6 +13,7 @@ __all__ = ["FiveBar"]
 # left_lower * right_lower: below it the two elbows (nearly) coincide and the
 # pen joint is not determined by the angles (the distal links overlap).
 _ASSEMBLY_EPS = 1e-9
+_BLOCK = 1 << 16     # points per block in ik_conditioning (8 x 64 k = 512 kB arrays)
 
 
 @dataclass(frozen=True, eq=False)
@@ -181,9 +182,16 @@ class FiveBar(Arm):
         """
         p = np.asarray(p, dtype=float)
         single = p.ndim == 1
-        q, parts = self._ik_parts(np.atleast_2d(p))
-        c = _ratio(*self._k_entries(*parts)[:4])
-        c[np.isnan(q[:, 0])] = 0.0
+        X = np.atleast_2d(p)
+        q = np.empty((len(X), 2))
+        c = np.empty(len(X))
+        # Blocks of points keep the ~40 temporaries in cache (a loop over
+        # blocks, each fully vectorised; the values do not depend on it).
+        for i in range(0, len(X), _BLOCK):
+            qb, parts = self._ik_parts(X[i:i + _BLOCK])
+            cb = _ratio(*self._k_entries(*parts)[:4])
+            cb[np.isnan(qb[:, 0])] = 0.0
+            q[i:i + _BLOCK], c[i:i + _BLOCK] = qb, cb
         return (q[0], c[0]) if single else (q, c)
 
     def conditioning_at(self, points):
