@@ -9,7 +9,7 @@ import numpy as np
 
 
 def fk_fivebar(arm_geo, t1, t2):
-    """Pen position of a five-bar from DESIGN.md's conventions (degrees in)."""
+    """Pen position of a five-bar from the conventions of DEVELOPERS.md (degrees in)."""
     (lx, ly), (rx, ry) = arm_geo["left_motor"], arm_geo["right_motor"]
     a1, a2 = np.deg2rad(t1), np.deg2rad(t2)
     ex_l = lx + arm_geo["left_upper"] * np.cos(a1)
