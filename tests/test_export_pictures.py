@@ -85,9 +85,19 @@ def test_preview_png_opens_with_pillow_and_shows_the_strokes(arm, wmap):
 
 
 def test_preview_png_draws_pen_up_rows_of_a_stream(arm, wmap):
+    # Rows 0-10 are pen-up, 11-29 draw the stroke: with the stream given, the
+    # pen-up rows' path shows (darker than without the stream) near row 5.
     s = line_stream(arm, 30, pen=np.arange(30) > 10)
-    img = preview_png([s.xy[11:]], arm=arm, wmap=wmap, stream=s, size=300)
-    assert img.size[0] == 300 or img.size[1] == 300
+    strokes = [s.xy[11:]]
+    with_rows = np.asarray(preview_png(strokes, arm=arm, wmap=wmap, stream=s, size=300))
+    without = np.asarray(preview_png(strokes, arm=arm, wmap=wmap, size=300))
+    assert with_rows.shape == without.shape and max(with_rows.shape[:2]) == 300
+    from inkreach.export.picture import _Canvas
+    cv = _Canvas(_scene_box_for_test(arm, wmap, strokes), 300)
+    u, v = np.rint(cv.px(s.xy[5])).astype(int)
+    near = (slice(v - 2, v + 3), slice(u - 2, u + 3))
+    assert with_rows[near].astype(int).sum(axis=2).min() < \
+        without[near].astype(int).sum(axis=2).min() - 20
 
 
 def test_png_bytes_are_the_same_for_the_same_picture(arm, wmap):
