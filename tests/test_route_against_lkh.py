@@ -11,12 +11,15 @@ elkai = pytest.importorskip("elkai")
 def lkh_pen_up(strokes, start=None, runs=1, scale=100.0):
     """Pen-up length of LKH's best open path through the strokes.
 
-    The standard reduction (two nodes per cluster, as in Noon and Bean,
-    "An efficient transformation of the generalized traveling salesman
-    problem", INFOR 31(1), 1993): each stroke becomes its two end nodes,
-    and every edge between different strokes costs a large constant more,
-    so the best tour uses every stroke's own edge (cost 0) and decides its
-    direction. The open path becomes a tour through one extra node at
+    The clustered-tour reduction: each stroke becomes its two end nodes,
+    joined by an edge of cost 0, and every edge between different strokes
+    costs a large constant more, so the best tour uses every stroke's own
+    edge (it enters a stroke at one end and leaves at the other, paying the
+    true distance from the end it leaves) and decides its direction. This is
+    the large-constant construction of the clustered travelling salesman
+    problem (J. A. Chisman, Computers & Operations Research 2(2), 1975, from
+    memory), not Noon and Bean's shifted-cost transformation of the
+    generalised problem, which visits one node per cluster. The open path becomes a tour through one extra node at
     distance 0 from every end; with a start point there are two extra
     nodes, the start and the free node, joined like a stroke. Distances are
     scaled to integers as LKH needs.
