@@ -64,7 +64,8 @@ def test_row_off_its_stroke_is_caught():
     q = GOOD.q.copy()
     k = _dwell_row(GOOD)
     q[k] += np.deg2rad([0.1, 0.1])  # about 0.3 mm away, slow enough for the limits
-    with pytest.raises(InkreachError, match=rf"row {k} .*mm off stroke 0, more than chord_tol"):
+    with pytest.raises(InkreachError, match=rf"row {k} .*: the pen is .* mm off stroke 0, more "
+                                            r"than chord_tol"):
         check_stream(_with(GOOD, q), ARM, strokes=LINE)
     # Without strokes there is nothing to compare with, so it passes.
     check_stream(_with(GOOD, q), ARM)
