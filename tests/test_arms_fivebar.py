@@ -256,3 +256,21 @@ def test_ik_conditioning_equals_ik_then_conditioning_and_an_svd(name):
     np.testing.assert_allclose(c[ok][fin], s[fin, 1] / s[fin, 0], atol=1e-9)
     q1, c1 = arm.ik_conditioning(pts[3])
     assert q1.shape == (2,) and c1.shape == ()
+
+
+def test_reach_box_and_joints_of_an_unequal_arm_by_hand():
+    # Left leg 90 + 120, right leg 70 + 100, pen 10 beyond, motors at (-30, 5)
+    # and (40, 0): the box spans each motor +- its leg plus the pen extension
+    # (220 left, 180 right): x from min(-250, -140) to max(190, 220), y from
+    # min(-215, -180) to max(225, 180). The right elbow at 60 deg: (40 + 35, 70 sin 60).
+    arm = FiveBar(left_motor=(-30.0, 5.0), right_motor=(40.0, 0.0), left_upper=90.0,
+                  right_upper=70.0, left_lower=120.0, right_lower=100.0, pen_extension=10.0,
+                  limits=WIDE)
+    assert arm.reach_box() == (-250.0, -215.0, 220.0, 225.0)
+    q = np.deg2rad([[120.0, 60.0]])
+    j = arm.joints(q)
+    assert set(j) == {"left_motor", "left_elbow", "pen_joint", "right_elbow", "right_motor",
+                      "pen"}
+    np.testing.assert_allclose(j["left_motor"], [[-30.0, 5.0]])
+    np.testing.assert_allclose(j["right_motor"], [[40.0, 0.0]])
+    np.testing.assert_allclose(j["right_elbow"], [[40.0 + 35.0, 70.0 * np.sin(np.pi / 3)]])

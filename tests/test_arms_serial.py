@@ -100,3 +100,18 @@ def test_ik_keeps_an_angle_on_its_limit(deg):
     back = arm.ik(arm.fk(q))
     np.testing.assert_allclose(back, q, atol=1e-9)
     assert arm.within_limits(back)
+
+
+def test_an_offset_shoulder_moves_everything_with_it():
+    # Craig 2005, sec. 3.6, with the base translated: shoulder (10, 20),
+    # links 100 and 80 at (0, 90) deg put the elbow at (110, 20) and the
+    # pen at (110, 100); the reach box is the shoulder +- 180 mm.
+    arm = SerialArm(shoulder=(10.0, 20.0), upper=100.0, lower=80.0,
+                    limits=Limits(theta1=(-np.pi, np.pi), theta2=(-np.pi, np.pi)))
+    j = arm.joints(np.deg2rad([0.0, 90.0]))
+    np.testing.assert_allclose(j["shoulder"], [[10.0, 20.0]])
+    np.testing.assert_allclose(j["elbow"], [[110.0, 20.0]], atol=1e-12)
+    np.testing.assert_allclose(j["pen"], [[110.0, 100.0]], atol=1e-12)
+    np.testing.assert_allclose(arm.ik(np.array([110.0, 100.0])), np.deg2rad([0.0, 90.0]),
+                               atol=1e-12)
+    assert arm.reach_box() == (-170.0, -160.0, 190.0, 200.0)
