@@ -216,3 +216,94 @@ def test_float_and_pillow_sources():
         load_image(np.full((10, 10), 2.0))
     with pytest.raises(InkreachError, match="file path"):
         load_image(42)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+@pytest.mark.parametrize("a, words", [
+    (np.zeros((10, 10, 2), np.uint8), r"array: an array picture must be \(H, W\) or \(H, W, 3 or 4\)"),
+    (np.full((10, 10), "x"), r"array: an array picture must be numeric, not <U1"),
+    (np.full((10, 10), 300, np.int32), "array: an integer array picture must be uint8 or uint16"),
+    (np.full((10, 10), -1, np.int32), "array: an integer array picture must be uint8 or uint16"),
+    (np.full((10, 10), np.nan), "array: the array picture has NaN or infinite values"),
+    (np.full((10, 10), 1.5), r"array: a float array picture must hold values in \[0, 1\]"),
+])
+def test_bad_arrays_are_refused_with_their_own_line(a, words):
+    with pytest.raises(InkreachError, match=words):
+        load_image(a)
+
+
+def test_arrays_of_every_accepted_kind_decode_alike():
+    # IEC 61966-2-1: 8-bit 128 decodes to 0.2158605 (see _GREY above); the
+    # same level as int32, as uint16 (128 * 257) and as a float, as (H, W, 1)
+    want = 0.2158605
+    for a in (np.full((10, 10), 128, np.int32), np.full((10, 10), 0, np.int64) + 128,
+              np.full((10, 10, 1), 128, np.uint8), np.full((10, 10), 128 * 257, np.uint16),
+              np.full((10, 10), 128 / 255.0), np.full((10, 10), 128 / 255.0, np.float32)):
+        assert load_image(a).luminance[0, 0] == pytest.approx(want, abs=2e-6), a.dtype
+    # zeros are fine in an integer array (black)
+    assert load_image(np.zeros((10, 10), np.int32)).luminance.max() == 0.0
+
+
+def test_float_colour_arrays_decode_and_composite_on_white():
+    # float sRGB (0.5, 0.5, 0.5) decodes to 0.2140411 (IEC 61966-2-1); half
+    # transparent over white paper gives 0.5 * 0.2140411 + 0.5 in linear light
+    rgb = np.full((10, 10, 3), 0.5)
+    assert load_image(rgb).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+    rgba = np.concatenate([rgb, np.full((10, 10, 1), 0.5)], axis=2)
+    assert load_image(rgba).luminance[0, 0] == pytest.approx(0.5 * 0.2140411 + 0.5, abs=2e-6)
+    opaque = np.concatenate([rgb, np.ones((10, 10, 1))], axis=2)
+    assert load_image(opaque).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+
+
+def test_pillow_modes_with_alpha_transparency_and_wide_values(tmp_path):
+    # grey + alpha ("LA"): grey 0 half transparent over white -> 0.5 in linear light
+    la = Image.fromarray(np.dstack([np.zeros((10, 10), np.uint8),
+                                    np.full((10, 10), 128, np.uint8)]), mode="LA")
+    assert load_image(la).luminance[0, 0] == pytest.approx(1 - 128 / 255, abs=1e-4)
+    # RGB with a transparent colour (PNG tRNS): that colour is white paper
+    rgb = Image.new("RGB", (10, 10), (0, 0, 0))
+    path = tmp_path / "trns.png"
+    rgb.save(path, transparency=(0, 0, 0))
+    assert load_image(path).luminance.min() == pytest.approx(1.0)
+    gray = Image.new("L", (10, 10), 0)
+    path = tmp_path / "trns_l.png"
+    gray.save(path, transparency=0)
+    assert load_image(path).luminance.min() == pytest.approx(1.0)
+    # 32-bit float ("F") in [0, 1]: decoded as sRGB like any other grey
+    f = Image.fromarray(np.full((10, 10), 0.5, np.float32), mode="F")
+    assert load_image(f).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+    # 32-bit integer ("I") above 16 bits: scaled by its own maximum
+    i = Image.fromarray(np.array([[100000] * 10, [50000] * 10] * 5, np.int32), mode="I")
+    y = load_image(i).luminance
+    assert y[0, 0] == pytest.approx(1.0) and y[1, 0] == pytest.approx(0.2140411, abs=2e-6)
+    # 16-bit exactly at full scale is white, not rescaled
+    i16 = Image.fromarray(np.full((10, 10), 65535, np.int32), mode="I")
+    assert load_image(i16).luminance[0, 0] == pytest.approx(1.0)
+
+
+def test_file_errors_name_the_file_and_say_what_to_do(tmp_path):
+    (tmp_path / "pics").mkdir()
+    with pytest.raises(InkreachError, match=r"^pics: is a folder, not a picture; give the path"):
+        load_image(tmp_path / "pics")
+    (tmp_path / "empty.png").write_bytes(b"")
+    with pytest.raises(InkreachError, match=r"^empty.png: the file is empty; give a PNG, JPEG, "
+                                            r"WebP, TIFF, BMP or GIF picture"):
+        load_image(tmp_path / "empty.png")
+    (tmp_path / "notes.png").write_text("hello")
+    with pytest.raises(InkreachError, match=r"^notes.png: is not a picture that can be read; "
+                                            r"give a PNG, JPEG, WebP, TIFF, BMP or GIF file"):
+        load_image(tmp_path / "notes.png")
+
+
+def test_size_limits_are_checked_for_arrays_and_images():
+    with pytest.raises(InkreachError, match=r"^array: the picture is 100x100 pixels, more than "
+                                            r"5,000 allowed"):
+        load_image(np.zeros((100, 100)), max_pixels=5000)
+    with pytest.raises(InkreachError, match=r"^picture: the picture is 100x100 pixels, more than"):
+        load_image(Image.new("L", (100, 100)), max_pixels=5000)
+    assert load_image(np.zeros((20, 20)), max_side=8).luminance.shape == (8, 8)
+    with pytest.raises(InkreachError, match="max_side must be at least 8"):
+        load_image(np.zeros((20, 20)), max_side=7)
+    with pytest.raises(InkreachError, match=r"give a file path, a Pillow image or a numpy array"):
+        load_image(3.5)
