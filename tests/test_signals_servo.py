@@ -151,3 +151,30 @@ def test_servo_calibration_from_arm_names_the_bad_key(servo, words):
     arm = parse_arm(arm_to_toml(_bare_default()) + "\n[servo]\n" + servo + "\n")
     with pytest.raises(InkreachError, match=words):
         servo_calibration_from_arm(arm)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+def test_servo_pulses_use_the_given_table_and_default_to_500_to_2500():
+    s = stream_of_deg([[45.0, 90.0], [90.0, 135.0]])
+    own = ServoCalibration(motor1=[[0.0, 1000.0], [180.0, 2000.0]],
+                           motor2=[[0.0, 1000.0], [180.0, 2000.0]])
+    # linear tables written out: 1000 + angle * 1000 / 180, and the common
+    # practice default 500 + angle * 2000 / 180
+    np.testing.assert_array_equal(servo_pulses(s, own).pulse_us, [[1250, 1500], [1500, 1750]])
+    np.testing.assert_array_equal(servo_pulses(s).pulse_us, [[1000, 1500], [1500, 2000]])
+
+
+def test_a_pulse_wider_than_the_frame_is_refused_for_either_motor():
+    # 400 Hz frames last 2500 us: a 2600 us pulse on motor 1 alone cannot fit
+    with pytest.raises(InkreachError, match="does not fit"):
+        ServoCalibration(motor1=[[0.0, 500.0], [180.0, 2600.0]],
+                         motor2=[[0.0, 500.0], [180.0, 1000.0]], frame_hz=400.0)
+
+
+def test_an_angle_outside_the_table_names_its_motor():
+    cal = ServoCalibration()
+    with pytest.raises(InkreachError, match=r"extend \[servo\] motor2"):
+        cal.pulse(1, [200.0])
+    with pytest.raises(InkreachError, match=r"extend \[servo\] motor1"):
+        cal.pulse(0, [-5.0])
