@@ -178,3 +178,19 @@ def test_an_angle_outside_the_table_names_its_motor():
         cal.pulse(1, [200.0])
     with pytest.raises(InkreachError, match=r"extend \[servo\] motor1"):
         cal.pulse(0, [-5.0])
+
+
+def test_servo_pulses_refuse_bad_streams_and_give_whole_microseconds():
+    from types import SimpleNamespace
+    s = stream_of_deg([[45.0, 90.0], [90.0, 135.0]])
+    sig = servo_pulses(s)
+    assert sig.pulse_us.dtype.kind == "i" and sig.pen_us.dtype.kind == "i"
+    three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.zeros(2, np.int8))
+    with pytest.raises(InkreachError, match="the joint stream must hold two angles per row"):
+        servo_pulses(three)
+    bad = SimpleNamespace(q=np.array([[0.5, np.nan]]), pen=np.zeros(1, np.int8))
+    with pytest.raises(InkreachError, match="not finite; re-plan it"):
+        servo_pulses(bad)
+    with pytest.raises(InkreachError, match="must rise .* strictly from pair to pair; remove "
+                                            "repeated or out-of-order measurements"):
+        ServoCalibration(motor1=[[0.0, 500.0], [90.0, 1500.0], [90.0, 1600.0]])
