@@ -212,8 +212,10 @@ def test_pen_extension_places_the_pen_beyond_the_joint():
 
 def test_unreachable_points_give_nan():
     arm = default_arm()
-    q = arm.ik(np.array([[0.0, 1000.0], [0.0, 0.0]]))
-    assert np.isnan(q[0]).all()
+    q = arm.ik(np.array([[0.0, 1000.0], [0.0, 0.0], [0.0, 200.0]]))
+    assert np.isnan(q[0]).all()      # 1000 mm away: beyond upper + lower = 250 mm
+    assert np.isnan(q[1]).all()      # 40 mm from each motor: inside |150 - 100| = 50 mm
+    assert np.isfinite(q[2]).all()   # and a point in the middle of the workspace is not
 
 
 def test_reachable_means_ik_limits_and_conditioning():
