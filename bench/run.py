@@ -354,7 +354,7 @@ def section_route(cfg, results):
 def section_kinematics(cfg, results):
     from inkreach.arms import load_arm
 
-    from bench_kinematics import throughput
+    from bench_kinematics import _points, reference_time, throughput
 
     rows = []
     for name in ("default", "serial"):
@@ -362,13 +362,16 @@ def section_kinematics(cfg, results):
             arm = load_arm(name)
             n = cfg["ik_points"]
             med, rate = throughput(arm, n=n, repeats=cfg["ik_runs"])
-            rows.append([f"{arm.name} ({arm.kind})", n, med, rate])
+            ref = reference_time(_points(arm, n, 0), cfg["ik_runs"])
+            rows.append([f"{arm.name} ({arm.kind})", n, med, rate, med / ref])
             results.setdefault("ik", {})[name] = rate
         except Exception as exc:  # noqa: BLE001
-            rows.append([name, _na(exc), "—", "—"])
+            rows.append([name, _na(exc), "—", "—", "—"])
     return ("Inverse kinematics plus conditioning of uniformly random points in the reach "
-            "box (unreachable ones give NaN and still count), median of runs.\n\n"
-            + _table(["arm", "points", "median s", "points / s"], rows))
+            "box (unreachable ones give NaN and still count), median of runs; the five-bar "
+            "through `ik_conditioning` (one pass). Reference: two `np.arctan2` and two "
+            "`np.hypot` over the same points, timed in the same run.\n\n"
+            + _table(["arm", "points", "median s", "points / s", "time / reference"], rows))
 
 
 def section_drawing(cfg, results):
@@ -438,10 +441,9 @@ def section_targets(results):
                      "(needs the full run)", "—"])
     ik = results.get("ik", {})
     if ik:
-        worst = min(ik.values())
-        rows.append(["≥ 1M IK + conditioning evaluations per second",
+        rows.append(["≥ 5M IK + conditioning evaluations per second on the five-bar",
                      ", ".join(f"{k}: {v / 1e6:.2f} M/s" for k, v in ik.items()),
-                     mark(worst >= 1e6)])
+                     mark(ik.get("default", 0.0) >= 5e6)])
     return ("Goals, not assertions. Quote ratios measured in one run.\n\n"
             + _table(["target", "measured", "status"], rows))
 

@@ -9,7 +9,7 @@ import numpy as np
 
 
 def fk_fivebar(arm_geo, t1, t2):
-    """Pen position of a five-bar from DESIGN.md's conventions (degrees in)."""
+    """Pen position of a five-bar from the conventions of DEVELOPERS.md (degrees in)."""
     (lx, ly), (rx, ry) = arm_geo["left_motor"], arm_geo["right_motor"]
     a1, a2 = np.deg2rad(t1), np.deg2rad(t2)
     ex_l = lx + arm_geo["left_upper"] * np.cos(a1)
@@ -71,3 +71,41 @@ def point_segment_distance(p, a, b):
     ab = b - a
     t = np.clip(((p - a) @ ab) / (ab @ ab), 0, 1)
     return np.hypot(*(p - (a + t[:, None] * ab)).T)
+
+
+def cv_coverage(polylines, shape, pen_px, supersample=8):
+    """Ink coverage (H, W) in [0, 1] of polylines drawn with OpenCV.
+
+    ``cv2.polylines`` with a thick line (round caps and joins) and
+    ``cv2.circle`` for single points, on a canvas ``supersample`` times
+    finer, averaged back to whole pixels; points are (column, row) with
+    pixel centres at whole numbers. A renderer outside the project, for
+    judging the project's own coverage figures. OpenCV's thick 8-connected
+    lines come in odd widths of fine pixels (measured on horizontal and
+    sloped lines: thickness 2k - 1 or 2k covers 2k + 1 across), so an even
+    fine width W is drawn as the mean of the W - 1 and W + 1 renders; a
+    filled circle of radius r covers a diameter of 2 r + 1 fine pixels.
+    """
+    import cv2
+
+    h, w = shape
+    ss = int(supersample)
+    shift = 4
+    width = max(1, int(round(pen_px * ss)))
+    widths = [width] if width % 2 else [width - 1, width + 1]
+    widths = [max(1, wd - 1) for wd in widths]      # thickness for each odd width
+    radius = max(0, int(round((pen_px * ss - 1) / 2 * (1 << shift))))
+    out = np.zeros((h, w))
+    for t in widths:
+        img = np.zeros((h * ss, w * ss), np.uint8)
+        for p in polylines:
+            p = np.asarray(p, float).reshape(-1, 2)
+            fine = np.rint(((p + 0.5) * ss - 0.5) * (1 << shift)).astype(np.int32)
+            if len(p) == 1:
+                cv2.circle(img, tuple(int(v) for v in fine[0]), radius, 255, -1, cv2.LINE_8,
+                           shift)
+            else:
+                cv2.polylines(img, [fine.reshape(-1, 1, 2)], False, 255, max(1, t),
+                              cv2.LINE_8, shift)
+        out += (img.reshape(h, ss, w, ss) > 0).mean(axis=(1, 3))
+    return out / len(widths)

@@ -2,7 +2,7 @@
 
 import numpy as np
 import pytest
-from hypothesis import HealthCheck, assume, given, settings, strategies as st
+from hypothesis import HealthCheck, assume, example, given, settings, strategies as st
 from scipy.optimize import least_squares
 
 from inkreach.arms import FiveBar, Limits, default_arm, load_arm
@@ -56,9 +56,19 @@ def arms_and_points(draw):
     return arm, q
 
 
+# Both elbows "in" with the pen at the point of q = (0, 0): the right leg's
+# configured elbow coincides with the left elbow, the distal links overlap and
+# the angles do not determine the pen joint. IK once answered (0, -180) deg,
+# whose FK is (60, 0), not the point: it must give NaN.
+_DEGENERATE = FiveBar(left_motor=(-44.0, 0.0), right_motor=(44.0, 0.0), left_upper=44.0,
+                      right_upper=44.0, left_lower=60.0, right_lower=60.0, elbows="in",
+                      limits=WIDE)
+
+
 @settings(max_examples=300, deadline=None,
           suppress_health_check=[HealthCheck.filter_too_much, HealthCheck.too_slow])
 @given(arms_and_points())
+@example((_DEGENERATE, np.array([0.0, 0.0])))
 def test_ik_then_fk_returns_the_point(sample):
     arm, q = sample
     p = arm.fk(q)
@@ -86,6 +96,25 @@ def test_fk_then_ik_recovers_angles_in_the_matching_mode(sample):
     q2 = arm.ik(p)
     d = np.angle(np.exp(1j * (q2 - q)))
     np.testing.assert_allclose(d, 0.0, atol=1e-6)
+
+
+def test_ik_gives_nan_where_the_elbows_coincide():
+    p = _DEGENERATE.fk(np.array([0.0, 0.0]))
+    # by hand: elbows (0, 0) and (88, 0), pen joint at (44, sqrt(60^2 - 44^2))
+    np.testing.assert_allclose(p, [44.0, np.sqrt(60.0 ** 2 - 44.0 ** 2)], atol=1e-12)
+    assert np.isnan(_DEGENERATE.ik(p)).all()
+    assert not _DEGENERATE.reachable(p)
+
+
+@pytest.mark.parametrize("deg", [[120.0, -30.0], [210.0, 100.0], [30.0, 120.0]])
+def test_ik_keeps_an_angle_on_its_limit(deg):
+    # The desk arm's limits are theta1 [30, 210], theta2 [-30, 150] deg: a
+    # posture exactly on a limit must come back on it, not 360 deg away.
+    arm = default_arm()
+    q = np.deg2rad(deg)
+    back = arm.ik(arm.fk(q))
+    np.testing.assert_allclose(back, q, atol=1e-9)
+    assert arm.within_limits(back)
 
 
 def test_analytic_jacobian_equals_central_differences():
@@ -158,12 +187,18 @@ def test_conditioning_vanishes_at_a_type_two_singularity():
     assert np.abs(J).max() > 1e3  # the Jacobian blows up near type II
 
 
-def test_conditioning_lies_between_zero_and_one():
-    arm = default_arm()
-    rng = np.random.default_rng(5)
-    c = arm.conditioning(rng.uniform(-4, 4, (5000, 2)))
-    c = c[np.isfinite(c)]
-    assert len(c) > 100 and c.min() >= 0.0 and c.max() <= 1.0
+def test_conditioning_is_the_svd_ratio_of_the_jacobian():
+    # sigma_min / sigma_max from numpy's SVD (Golub & Van Loan 2013, sec. 2.4) of
+    # the analytic Jacobian, over random postures of both shipped five-bars;
+    # a closed form that only stayed inside [0, 1] would not pass.
+    for arm in (default_arm(), load_arm("wide")):
+        q = np.random.default_rng(5).uniform(-4, 4, (5000, 2))
+        q = q[np.isfinite(arm.fk(q)[:, 0])]
+        J = arm.jacobian(q)
+        ok = np.isfinite(J).all(axis=(1, 2))
+        assert ok.sum() > 100
+        s = np.linalg.svd(J[ok], compute_uv=False)
+        np.testing.assert_allclose(arm.conditioning(q[ok]), s[:, 1] / s[:, 0], atol=1e-9)
 
 
 def test_pen_extension_places_the_pen_beyond_the_joint():
@@ -177,8 +212,10 @@ def test_pen_extension_places_the_pen_beyond_the_joint():
 
 def test_unreachable_points_give_nan():
     arm = default_arm()
-    q = arm.ik(np.array([[0.0, 1000.0], [0.0, 0.0]]))
-    assert np.isnan(q[0]).all()
+    q = arm.ik(np.array([[0.0, 1000.0], [0.0, 0.0], [0.0, 200.0]]))
+    assert np.isnan(q[0]).all()      # 1000 mm away: beyond upper + lower = 250 mm
+    assert np.isnan(q[1]).all()      # 40 mm from each motor: inside |150 - 100| = 50 mm
+    assert np.isfinite(q[2]).all()   # and a point in the middle of the workspace is not
 
 
 def test_reachable_means_ik_limits_and_conditioning():
@@ -201,3 +238,41 @@ def test_many_points_at_once():
     ok = np.isfinite(q[:, 0])
     np.testing.assert_allclose(arm.fk(q[ok]), pts[ok], atol=1e-7)
     assert arm.reachable(pts).shape == (100_000,)
+
+
+@pytest.mark.parametrize("name", ["default", "wide"])
+def test_ik_conditioning_equals_ik_then_conditioning_and_an_svd(name):
+    arm = load_arm(name)
+    pts = np.random.default_rng(8).uniform([-250, -50], [250, 300], (20_000, 2))
+    q, c = arm.ik_conditioning(pts)
+    np.testing.assert_array_equal(q, arm.ik(pts))
+    # the elbows found by IK and those assembled from the angles differ by
+    # rounding; near a singularity that moves the ratio by up to ~1e-13
+    np.testing.assert_allclose(c, arm.conditioning(q), rtol=0, atol=1e-12)
+    np.testing.assert_allclose(arm.conditioning_at(pts), c, rtol=0, atol=0)
+    ok = np.isfinite(q[:, 0])
+    assert 1000 < ok.sum() < len(pts)          # both reachable and unreachable points
+    # numpy's SVD of the analytic Jacobian (Golub & Van Loan 2013, sec. 2.4)
+    s = np.linalg.svd(arm.jacobian(q[ok]), compute_uv=False)
+    fin = np.isfinite(s).all(axis=1)
+    np.testing.assert_allclose(c[ok][fin], s[fin, 1] / s[fin, 0], atol=1e-9)
+    q1, c1 = arm.ik_conditioning(pts[3])
+    assert q1.shape == (2,) and c1.shape == ()
+
+
+def test_reach_box_and_joints_of_an_unequal_arm_by_hand():
+    # Left leg 90 + 120, right leg 70 + 100, pen 10 beyond, motors at (-30, 5)
+    # and (40, 0): the box spans each motor +- its leg plus the pen extension
+    # (220 left, 180 right): x from min(-250, -140) to max(190, 220), y from
+    # min(-215, -180) to max(225, 180). The right elbow at 60 deg: (40 + 35, 70 sin 60).
+    arm = FiveBar(left_motor=(-30.0, 5.0), right_motor=(40.0, 0.0), left_upper=90.0,
+                  right_upper=70.0, left_lower=120.0, right_lower=100.0, pen_extension=10.0,
+                  limits=WIDE)
+    assert arm.reach_box() == (-250.0, -215.0, 220.0, 225.0)
+    q = np.deg2rad([[120.0, 60.0]])
+    j = arm.joints(q)
+    assert set(j) == {"left_motor", "left_elbow", "pen_joint", "right_elbow", "right_motor",
+                      "pen"}
+    np.testing.assert_allclose(j["left_motor"], [[-30.0, 5.0]])
+    np.testing.assert_allclose(j["right_motor"], [[40.0, 0.0]])
+    np.testing.assert_allclose(j["right_elbow"], [[40.0 + 35.0, 70.0 * np.sin(np.pi / 3)]])

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from inkreach.arms import Limits, SerialArm
+from inkreach.arms import Limits, SerialArm, load_arm
 
 
 def _arm(l1=100.0, l2=80.0, elbow="ccw"):
@@ -89,3 +89,29 @@ def test_analytic_jacobian_equals_central_differences():
     num = np.stack([(arm.fk(q + h * e) - arm.fk(q - h * e)) / (2 * h)
                     for e in np.eye(2)], axis=2)
     np.testing.assert_allclose(arm.jacobian(q), num, atol=1e-5)
+
+
+@pytest.mark.parametrize("deg", [[-30.0, 90.0], [210.0, 90.0], [-30.0, 10.0]])
+def test_ik_keeps_an_angle_on_its_limit(deg):
+    # The shipped serial arm allows theta1 in [-30, 210] deg: a posture on a
+    # limit comes back on it, not 360 deg away (the same posture, but outside).
+    arm = load_arm("serial")
+    q = np.deg2rad(deg)
+    back = arm.ik(arm.fk(q))
+    np.testing.assert_allclose(back, q, atol=1e-9)
+    assert arm.within_limits(back)
+
+
+def test_an_offset_shoulder_moves_everything_with_it():
+    # Craig 2005, sec. 3.6, with the base translated: shoulder (10, 20),
+    # links 100 and 80 at (0, 90) deg put the elbow at (110, 20) and the
+    # pen at (110, 100); the reach box is the shoulder +- 180 mm.
+    arm = SerialArm(shoulder=(10.0, 20.0), upper=100.0, lower=80.0,
+                    limits=Limits(theta1=(-np.pi, np.pi), theta2=(-np.pi, np.pi)))
+    j = arm.joints(np.deg2rad([0.0, 90.0]))
+    np.testing.assert_allclose(j["shoulder"], [[10.0, 20.0]])
+    np.testing.assert_allclose(j["elbow"], [[110.0, 20.0]], atol=1e-12)
+    np.testing.assert_allclose(j["pen"], [[110.0, 100.0]], atol=1e-12)
+    np.testing.assert_allclose(arm.ik(np.array([110.0, 100.0])), np.deg2rad([0.0, 90.0]),
+                               atol=1e-12)
+    assert arm.reach_box() == (-170.0, -160.0, 190.0, 200.0)

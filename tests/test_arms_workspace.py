@@ -18,11 +18,40 @@ def test_serial_reach_area_is_the_annulus():
 
 
 def test_conditioning_floor_shrinks_the_usable_area():
+    # The usable cells are exactly the reachable, in-limit cells whose
+    # conditioning, recomputed outside the project (forward kinematics from
+    # the README conventions, central differences, numpy's SVD), is at or
+    # above the floor; a higher floor gives a strictly smaller subset.
+    import dataclasses
+
+    from _independent import fk_fivebar
+
     arm = default_arm()
-    m = workspace_map(arm, cells=200)
+    m = workspace_map(arm, cells=120)
     assert 0 < m.usable_area < m.reach_area
-    c = m.conditioning[m.usable]
-    assert c.min() >= arm.limits.min_conditioning
+    X, Y = np.meshgrid(m.x, m.y)
+    pts = np.column_stack([X[m.in_limits], Y[m.in_limits]])
+    q = np.rad2deg(arm.ik(pts))
+    geo = {k: getattr(arm, k) for k in ("left_motor", "right_motor", "left_upper",
+                                        "right_upper", "left_lower", "right_lower",
+                                        "pen_extension")}
+    h = 1e-4   # deg
+    J = np.empty((len(q), 2, 2))
+    for j in range(2):
+        dq = np.zeros(2)
+        dq[j] = h
+        plus = np.column_stack(fk_fivebar(geo, *(q + dq).T))
+        minus = np.column_stack(fk_fivebar(geo, *(q - dq).T))
+        J[:, :, j] = (plus - minus) / (2 * np.deg2rad(h))
+    sv = np.linalg.svd(J, compute_uv=False)
+    c = sv[:, 1] / sv[:, 0]
+    floor = arm.limits.min_conditioning
+    clear = np.abs(c - floor) > 1e-6          # cells not sitting on the floor itself
+    np.testing.assert_array_equal(m.usable[m.in_limits][clear], (c >= floor)[clear])
+    higher = workspace_map(dataclasses.replace(
+        arm, limits=dataclasses.replace(arm.limits, min_conditioning=0.5)), cells=120)
+    assert higher.usable_area < m.usable_area
+    assert not (higher.usable & ~m.usable).any()
 
 
 def _brute_force(mask, aspect):

@@ -150,7 +150,7 @@ def test_dots_on_one_line_are_reported_not_fitted_silently():
     assert f.fixed  # undetermined parameters were held, and named
     assert any("poorly determined" in w or "do not determine" in w for w in f.warnings)
     # 5 mm: the fit's documented limit for a standard error worth keeping on a
-    # desk-top arm (common practice; see fit_arm)
+    # desk-top arm (a bound the project chose; see fit_arm)
     assert all(f.stderr[k] < 5.0 for k in f.stderr if not k.startswith(("offset", "scale")))
 
 

@@ -29,9 +29,9 @@ def test_targets_spread_over_the_usable_region():
     xy = arm.fk(calibration_targets(arm, n=12))
     d = np.hypot(*(xy[:, None] - xy[None]).transpose(2, 0, 1))
     d[np.eye(12, dtype=bool)] = np.inf
-    assert d.min() > 20.0  # a postcard-sized region: dots far apart (common practice)
+    assert d.min() > 20.0  # bound chosen here: 12 dots over a postcard-sized region, far apart
     sv = np.linalg.svd(xy - xy.mean(0), compute_uv=False) / np.sqrt(12)
-    assert sv[1] > 30.0  # not close to a line (common practice)
+    assert sv[1] > 30.0  # bound chosen here: spread in both directions, not close to a line
     # Gonzalez (1985): every sampled grid point lies within the smallest
     # separation s of a pick, so n discs of radius s + half a cell diagonal
     # cover the sampled region: s >= sqrt(area / (n pi)) - step / sqrt(2).
@@ -82,7 +82,8 @@ def test_dot_order_is_close_to_the_shortest_open_path(seed):
     # Exhaustive search over all 7! orders from a fixed first dot is the
     # reference; 2-opt tours are typically within a few per cent of the
     # optimum (Johnson & McGeoch, "The traveling salesman problem: a case
-    # study in local optimization", 1997) - common practice: allow 15 %.
+    # study in local optimization", 1997, from memory); 15 % is a bound chosen
+    # here with room above that for 8 dots.
     P = np.random.default_rng(seed).uniform(0, 100, (8, 2))
     order = _short_path(P, start_xy=P[0])
     assert order[0] == 0 and sorted(order) == list(range(8))

@@ -28,8 +28,10 @@ def test_plan_prints_the_figures_and_writes_the_files(emblem_png, tmp_path, caps
                   "drawing size", "worst conditioning", "likeness", "plan.json"):
         assert words in text
     names = set(os.listdir(out))
-    assert {"plan.json", "joints.csv", "preview.svg", "preview.png", "order.png",
-            "simulated.png", "plan.h", "SAFETY.txt"} <= names
+    # exactly the README's output files for the default arm (servo signals),
+    # no temporary or stray file left beside them
+    assert names == {"plan.json", "joints.csv", "preview.svg", "preview.png", "order.png",
+                     "simulated.png", "plan.h", "SAFETY.txt", "servo.csv"}
 
 
 def test_plan_json_format_is_for_scripts(emblem_png, tmp_path, capsys):

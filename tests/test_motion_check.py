@@ -64,7 +64,8 @@ def test_row_off_its_stroke_is_caught():
     q = GOOD.q.copy()
     k = _dwell_row(GOOD)
     q[k] += np.deg2rad([0.1, 0.1])  # about 0.3 mm away, slow enough for the limits
-    with pytest.raises(InkreachError, match=rf"row {k} .*mm off stroke 0, more than chord_tol"):
+    with pytest.raises(InkreachError, match=rf"row {k} .*: the pen is .* mm off stroke 0, more "
+                                            r"than chord_tol"):
         check_stream(_with(GOOD, q), ARM, strokes=LINE)
     # Without strokes there is nothing to compare with, so it passes.
     check_stream(_with(GOOD, q), ARM)
@@ -116,3 +117,155 @@ def test_touch_down_away_from_the_stroke_start_is_caught():
     shifted = [LINE[0] + [0.0, 0.03]]  # within chord_tol, but the touch-down must be exact
     with pytest.raises(InkreachError, match=r"touches down 0\.0300 mm from the start of stroke 0"):
         check_stream(GOOD, ARM, strokes=shifted)
+
+
+def _rest(deg, n=3):
+    q = np.repeat(np.deg2rad([deg]), n, axis=0)
+    return JointStream(t=np.arange(n) * 0.02, q=q, pen=np.zeros(n, np.int8), xy=ARM.fk(q),
+                       period=0.02, stroke=np.full(n, -1))
+
+
+@pytest.mark.parametrize("deg,name", [
+    # 1e-3 deg past each limit of the desk arm (theta1 [30, 210], theta2 [-30, 150]):
+    # far above the 1e-8 rad rounding allowance, far below any real mistake
+    ((120.0, -30.0 - 1e-3), "theta2"), ((140.0, 150.0 + 1e-3), "theta2"),
+    ((30.0 - 1e-3, 60.0), "theta1"), ((210.0 + 1e-3, 100.0), "theta1")])
+def test_each_joint_just_past_its_limit_is_caught(deg, name):
+    with pytest.raises(InkreachError, match=rf"row 0 .*: {name} = .* outside the limits"):
+        check_stream(_rest(deg), ARM)
+    # and the same posture on the limit passes the joint test
+    on = np.clip(deg, np.rad2deg(ARM.limits.lower), np.rad2deg(ARM.limits.upper))
+    try:
+        check_stream(_rest(on), ARM)
+    except InkreachError as e:       # a limit posture may fail a later rule, not this one
+        assert "outside the limits" not in str(e)
+
+
+def test_conditioning_just_below_the_floor_is_caught():
+    # Bisect along theta2 from a well-conditioned posture towards the folded
+    # singularity for a posture whose conditioning is 1e-3 under the floor.
+    floor = ARM.limits.min_conditioning
+    lo, hi = 60.0, 150.0               # conditioning above / below the floor
+    assert ARM.conditioning(np.deg2rad([120.0, lo])) > floor
+    assert ARM.conditioning(np.deg2rad([120.0, hi])) < floor - 1e-3
+    for _ in range(60):
+        mid = 0.5 * (lo + hi)
+        c = ARM.conditioning(np.deg2rad([120.0, mid]))
+        lo, hi = (mid, hi) if c > floor - 1e-3 else (lo, mid)
+    c = ARM.conditioning(np.deg2rad([120.0, hi]))
+    assert floor - 2e-3 < c < floor
+    with pytest.raises(InkreachError, match=r"conditioning 0\.299 is below the floor 0\.3"):
+        check_stream(_rest((120.0, hi)), ARM)
+
+
+def test_lift_away_from_the_stroke_end_is_caught():
+    # The end moved 0.03 mm further along the line: every row is still on the
+    # stroke and the touch-down exact, but the pen lifts short of the end.
+    longer = [np.array([[-30.0, 150.0], [30.03, 150.0]])]
+    with pytest.raises(InkreachError, match=r"lifts 0\.0300 mm from the end of stroke 0"):
+        check_stream(GOOD, ARM, strokes=longer)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+def test_empty_and_ragged_streams_are_refused_with_their_own_lines():
+    empty = JointStream(t=np.zeros(0), q=np.zeros((0, 2)), pen=np.zeros(0, np.int8),
+                        xy=np.zeros((0, 2)), period=0.02)
+    with pytest.raises(InkreachError, match="the stream has no rows"):
+        check_stream(empty, ARM)
+    ragged = JointStream(t=GOOD.t, q=GOOD.q[:-1], pen=GOOD.pen, xy=GOOD.xy, period=0.02)
+    with pytest.raises(InkreachError, match="columns disagree in length"):
+        check_stream(ragged, ARM)
+
+
+def test_a_pen_value_other_than_zero_or_one_is_refused():
+    pen = GOOD.pen.copy()
+    pen[4] = 2
+    with pytest.raises(InkreachError, match=r"row 4 \(t = 0\.08 s\): pen is 2; it must be 0"):
+        check_stream(_with(GOOD, pen=pen), ARM)
+
+
+def test_a_posture_where_the_linkage_cannot_close_is_refused():
+    # Lower links of 50 mm: at (120, 60) deg the elbows stand 180 mm apart
+    # (by hand: (-90, 86.6) and (90, 86.6)), more than 50 + 50 can bridge.
+    import dataclasses
+    arm = dataclasses.replace(ARM, left_lower=50.0, right_lower=50.0)
+    q = np.repeat(np.deg2rad([[120.0, 60.0]]), 3, axis=0)
+    s = JointStream(t=np.arange(3) * 0.02, q=q, pen=np.zeros(3, np.int8), xy=np.zeros((3, 2)),
+                    period=0.02)
+    with pytest.raises(InkreachError, match=r"row 0 .*the linkage does not close at "
+                                            r"\(120\.00, 60\.00\) deg"):
+        check_stream(s, arm)
+
+
+def test_limit_messages_say_what_to_do():
+    with pytest.raises(InkreachError, match="keep the drawing inside the usable region"):
+        check_stream(_rest((120.0, -31.0)), ARM)
+    with pytest.raises(InkreachError, match="place the drawing in the well-conditioned region"):
+        check_stream(_rest((120.0, 140.0)), ARM)
+
+
+def test_two_rows_too_far_apart_are_a_speed_violation():
+    q = np.deg2rad([[120.0, 60.0], [124.0, 60.0]])      # 4 deg in 20 ms = 200 deg/s > 180
+    s = JointStream(t=np.arange(2) * 0.02, q=q, pen=np.zeros(2, np.int8), xy=ARM.fk(q),
+                    period=0.02)
+    with pytest.raises(InkreachError, match=r"theta1 speed 200\.0 deg/s exceeds"):
+        check_stream(s, ARM)
+
+
+def test_a_steady_acceleration_above_the_limit_is_refused():
+    # q = a t^2 / 2 has second differences a T^2 exactly and third differences
+    # 0: the check must use the second difference (Craig 2005, ch. 7).
+    a = np.deg2rad(1500.0) * 1.01
+    for n in (3, 5):
+        t = np.arange(n) * 0.02
+        q = np.deg2rad([120.0, 60.0]) + np.column_stack([0.5 * a * t ** 2, np.zeros(n)])
+        s = JointStream(t=t, q=q, pen=np.zeros(n, np.int8), xy=ARM.fk(q), period=0.02)
+        with pytest.raises(InkreachError, match=r"row 1 .*theta1 acceleration 1515\.0 deg/s"):
+            check_stream(s, ARM)
+
+
+def test_a_pen_down_row_labelled_past_the_last_stroke_is_refused():
+    lab = np.where(GOOD.pen == 1, 1, -1)
+    s = JointStream(t=GOOD.t, q=GOOD.q, pen=GOOD.pen, xy=GOOD.xy, period=GOOD.period,
+                    stroke=lab)
+    with pytest.raises(InkreachError, match=r"belongs to no stroke \(stroke index 1, 1 strokes\)"):
+        check_stream(s, ARM, strokes=LINE)
+
+
+def test_the_pen_between_two_rows_is_checked_on_its_own():
+    # Two pen-down rows exactly at the ends of a 40 mm straight stroke, ten
+    # seconds apart (slow): both rows lie on the stroke, but the joint-space
+    # path between them bows away from the straight line (five-bar).
+    line = [np.array([[-20.0, 150.0], [20.0, 150.0]])]
+    q = ARM.ik(line[0])
+    s = JointStream(t=np.array([0.0, 10.0]), q=q, pen=np.ones(2, np.int8), xy=ARM.fk(q),
+                    period=10.0, stroke=np.zeros(2, int))
+    with pytest.raises(InkreachError, match=r"row 0 .*the pen between this row and the next "
+                                            r"is .* mm off stroke 0"):
+        check_stream(s, ARM, strokes=line)
+
+
+def test_a_row_past_the_stroke_end_along_its_line_is_off_the_stroke():
+    shorter = [np.array([[-30.0, 150.0], [29.7, 150.0]])]   # the rows go on to x = 30
+    with pytest.raises(InkreachError, match=r"0\.300 mm off stroke 0"):
+        check_stream(GOOD, ARM, strokes=shorter)
+
+
+def test_two_strokes_and_a_dot_pass_with_exact_ends_and_a_full_report():
+    strokes = [np.array([[-30.0, 150.0], [0.0, 150.0]]), np.array([[10.0, 160.0]]),
+               np.array([[20.0, 170.0], [20.0, 140.0], [-10.0, 140.0]])]
+    s = plan_motion(strokes, ARM)
+    r = check_stream(s, ARM, strokes=strokes)
+    r2 = check_stream(_with(s, stroke=None), ARM, strokes=strokes)
+    assert r2 == r and r.pen_down_rows == int((s.pen == 1).sum())
+    v = np.rad2deg(np.abs(np.diff(s.q, axis=0)).max(axis=0)) / s.period
+    a = np.rad2deg(np.abs(np.diff(s.q, n=2, axis=0)).max(axis=0)) / s.period ** 2
+    np.testing.assert_allclose(r.max_speed_deg_s, v)
+    np.testing.assert_allclose(r.max_accel_deg_s2, a)
+    one = check_stream(_rest((120.0, 60.0), n=1), ARM)
+    assert one.max_speed_deg_s == (0.0, 0.0) and one.max_accel_deg_s2 == (0.0, 0.0)
+    # a stream that starts with the pen down: its first run is stroke 0
+    k = int(np.flatnonzero(s.pen == 1)[0])
+    cut = JointStream(t=s.t[:-k], q=s.q[k:], pen=s.pen[k:], xy=s.xy[k:], period=s.period)
+    assert check_stream(cut, ARM, strokes=strokes).rows == len(s) - k

@@ -59,6 +59,8 @@ def test_upright_rectangle_is_at_least_95_percent_of_brute_force_best(arm_and_ma
     fine, step = _fine_usable(arm, wmap)
     ref = _brute_force_rectangle_area(fine, step, aspect)
     got = p.size_mm[0] * p.size_mm[1]
+    # 95 %: a bound chosen here; the placement searches a coarser workspace map
+    # (cells of a few mm) than the 0.5 mm brute-force grid, which costs a few %
     assert got >= 0.95 * ref
     assert got <= ref * 1.01 + 1.0     # and it cannot beat the exact region by much
 
@@ -112,4 +114,6 @@ def test_non_rectangular_drawing_is_placed_larger_than_its_bounding_box_allows(d
     for rotations in ([0.0], None):
         shaped = place_drawing(strokes, arm, wmap=wmap, rotations=rotations)
         boxed = place_drawing(box, arm, wmap=wmap, rotations=rotations)
+        # 3 %: chosen here, well above the search's own step (1 % gain rule)
+        # and well below what a triangle or L-shape gains over its box
         assert shaped.scale > 1.03 * boxed.scale

@@ -27,7 +27,7 @@ def _check_plan_files(files, arm, chord_tol=0.05):
     plan_json = json.loads(files["plan.json"])
     table = tomllib.loads(arm_to_toml(arm))
     fig = check_joints(files["joints.csv"], table)
-    # DESIGN.md: FK of each row's angles is the row's x, y (independent FK);
+    # README (output files): FK of each row's angles is the row's x, y (independent FK);
     # the CSV prints x, y to 1e-4 mm and angles to 1e-6 deg, hence 1e-3 mm
     assert fig["fk_error_mm"] < 1e-3
     assert fig["period_spread"] < 1e-6

@@ -78,3 +78,12 @@ def test_reorder_joint_space_returns_the_route_when_nothing_helps():
     arm = default_arm()
     r = order_strokes(_strokes_in_reach(1, 2))
     assert reorder_joint_space(r, arm) is r
+    # and with several strokes that already run straight out from the rest
+    # posture, one after the other (each pen-up hop 1 mm, every other order
+    # longer): nothing helps, so the same route comes back
+    p0 = arm.fk(arm.home())
+    d = np.array([0.0, -1.0])
+    row = [np.array([p0 + d * (3 * k + 1), p0 + d * (3 * k + 3)]) for k in range(6)]
+    r = order_strokes(row, start=p0)
+    assert [s.tolist() for s in r.strokes] == [s.tolist() for s in row]
+    assert reorder_joint_space(r, arm, start_q=arm.home()) is r

@@ -31,6 +31,15 @@ def test_signals_of_a_calibrated_arm_reach_the_model_angles():
     sig = make_signals(s, arm, kind="stepper")
     plain = make_signals(s, parse_arm(builtin_arm_text("serial")), kind="stepper")
     assert not np.array_equal(sig["stepper"].steps, plain["stepper"].steps)
-    reached = quantised_angles(s, arm, sig)
-    step = 2 * np.pi / (200 * 16)
-    assert np.abs(reached - q).max() < step
+    # Written out, not taken from the project's functions: the calibration
+    # model is true = scale * commanded + offset, so commanded = (true -
+    # offset) / scale; the shipped serial arm has 200 steps/rev, 16 microsteps,
+    # gear 3 and no home, so step 0 is 0 deg and a step is 360 / 9600 deg.
+    deg = np.rad2deg(q)
+    cmd = (deg - [3.0, 1.0]) / np.array([1.0, 1.02])
+    want = np.rint(cmd * 200 * 16 * 3.0 / 360.0).astype(np.int64)
+    np.testing.assert_array_equal(sig["stepper"].steps, want)
+    # and the motors then stand within half a step of the model angles
+    reached = np.array([1.0, 1.02]) * (want * 360.0 / 9600.0) + [3.0, 1.0]
+    assert np.abs(reached - deg).max() <= 0.5 * 360.0 / 9600.0 * 1.02 + 1e-12
+    np.testing.assert_allclose(quantised_angles(s, arm, sig), np.deg2rad(reached), atol=1e-12)

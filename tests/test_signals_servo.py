@@ -71,6 +71,20 @@ def test_servo_defaults_are_common_practice_500_to_2500_over_180_degrees():
     np.testing.assert_allclose(cal.pulse(0, [0.0, 90.0, 180.0]), [500.0, 1500.0, 2500.0])
 
 
+def test_an_arm_without_a_servo_table_gets_500_to_2500_us_centred_on_its_limits():
+    # Common practice (hobby servos): 500 us at one end of a 180 deg turn, 1500 us
+    # at its centre, 2500 us at the other end, rising with the angle; centred on
+    # the middle of each joint's limits. Written out for the desk arm's limits
+    # theta1 [30, 210] deg (centre 120) and theta2 [-30, 150] deg (centre 60):
+    # pulse = 1500 + (angle - centre) * 2000 / 180.
+    cal = servo_calibration_from_arm(_bare_default())
+    for motor, centre in ((0, 120.0), (1, 60.0)):
+        ang = centre + np.array([-90.0, -45.0, 0.0, 30.0, 90.0])
+        np.testing.assert_allclose(cal.pulse(motor, ang),
+                                   1500.0 + (ang - centre) * 2000.0 / 180.0, atol=1e-9)
+        np.testing.assert_allclose(cal.pulse(motor, [centre - 90, centre + 90]), [500, 2500])
+
+
 def test_servo_pulses_refuse_angles_outside_the_table():
     s = _stream_of_deg([[10.0, 10.0], [181.0, 10.0]])
     with pytest.raises(InkreachError, match="motor 1 angle 181.000 deg is outside"):
@@ -137,3 +151,46 @@ def test_servo_calibration_from_arm_names_the_bad_key(servo, words):
     arm = parse_arm(arm_to_toml(_bare_default()) + "\n[servo]\n" + servo + "\n")
     with pytest.raises(InkreachError, match=words):
         servo_calibration_from_arm(arm)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+def test_servo_pulses_use_the_given_table_and_default_to_500_to_2500():
+    s = stream_of_deg([[45.0, 90.0], [90.0, 135.0]])
+    own = ServoCalibration(motor1=[[0.0, 1000.0], [180.0, 2000.0]],
+                           motor2=[[0.0, 1000.0], [180.0, 2000.0]])
+    # linear tables written out: 1000 + angle * 1000 / 180, and the common
+    # practice default 500 + angle * 2000 / 180
+    np.testing.assert_array_equal(servo_pulses(s, own).pulse_us, [[1250, 1500], [1500, 1750]])
+    np.testing.assert_array_equal(servo_pulses(s).pulse_us, [[1000, 1500], [1500, 2000]])
+
+
+def test_a_pulse_wider_than_the_frame_is_refused_for_either_motor():
+    # 400 Hz frames last 2500 us: a 2600 us pulse on motor 1 alone cannot fit
+    with pytest.raises(InkreachError, match="does not fit"):
+        ServoCalibration(motor1=[[0.0, 500.0], [180.0, 2600.0]],
+                         motor2=[[0.0, 500.0], [180.0, 1000.0]], frame_hz=400.0)
+
+
+def test_an_angle_outside_the_table_names_its_motor():
+    cal = ServoCalibration()
+    with pytest.raises(InkreachError, match=r"extend \[servo\] motor2"):
+        cal.pulse(1, [200.0])
+    with pytest.raises(InkreachError, match=r"extend \[servo\] motor1"):
+        cal.pulse(0, [-5.0])
+
+
+def test_servo_pulses_refuse_bad_streams_and_give_whole_microseconds():
+    from types import SimpleNamespace
+    s = stream_of_deg([[45.0, 90.0], [90.0, 135.0]])
+    sig = servo_pulses(s)
+    assert sig.pulse_us.dtype.kind == "i" and sig.pen_us.dtype.kind == "i"
+    three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.zeros(2, np.int8))
+    with pytest.raises(InkreachError, match="the joint stream must hold two angles per row"):
+        servo_pulses(three)
+    bad = SimpleNamespace(q=np.array([[0.5, np.nan]]), pen=np.zeros(1, np.int8))
+    with pytest.raises(InkreachError, match="not finite; re-plan it"):
+        servo_pulses(bad)
+    with pytest.raises(InkreachError, match="must rise .* strictly from pair to pair; remove "
+                                            "repeated or out-of-order measurements"):
+        ServoCalibration(motor1=[[0.0, 500.0], [90.0, 1500.0], [90.0, 1600.0]])

@@ -132,3 +132,23 @@ def test_stepper_config_from_arm_names_the_bad_key(stepper, words):
     with pytest.raises(InkreachError, match=words) as info:
         stepper_config_from_arm(arm)
     assert "\n" not in str(info.value)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+@pytest.mark.parametrize("kw, words", [
+    ({"steps_per_rev": "abc"}, "steps_per_rev"),
+    ({"steps_per_rev": 200.5}, "steps_per_rev"),
+    ({"microsteps": 0}, "microsteps"),
+    ({"steps_per_rev": 0}, "steps_per_rev"),
+    ({"zero_deg": "north"}, "zero_deg"),
+])
+def test_bad_stepper_settings_are_refused_by_name(kw, words):
+    with pytest.raises(InkreachError, match=words):
+        StepperConfig(**kw)
+
+
+def test_step_positions_beyond_32_bits_are_refused():
+    s = stream_of_deg([[0.0, 0.0], [170.0, 0.0]])
+    with pytest.raises(InkreachError, match="does not fit in 32 bits; check zero_deg"):
+        stepper_steps(s, StepperConfig(gear_ratio=1e7))   # 170 deg -> 1.5e10 steps

@@ -28,6 +28,8 @@ def _check(strokes, truth, open_ends=()):
     # scipy.spatial.cKDTree.  Pixel centres sit at whole numbers in both.
     pts = np.concatenate(strokes)
     d_out, _ = cKDTree(truth).query(pts)
+    # 1.5 px: half the drawn 3 px line width, i.e. every stroke point lies
+    # inside the drawn line; a bound chosen from the picture's geometry
     assert d_out.max() <= 1.5                       # strokes lie on the centre line
     # Densify the strokes (they are simplified polylines) before the recall.
     dense = np.concatenate([np.linspace(a, b, max(2, int(np.hypot(*(b - a))) * 2 + 2))
@@ -36,6 +38,8 @@ def _check(strokes, truth, open_ends=()):
     keep = np.ones(len(truth), bool)
     for e in open_ends:                              # ignore ~3 px at open ends
         keep &= np.hypot(*(truth - e).T) > 3.0
+    # 98 %: chosen here to allow a few pixels lost where lines meet (a
+    # skeleton's junctions move by about a line width)
     assert (d_in[keep] <= 1.5).mean() >= 0.98
 
 

@@ -24,7 +24,7 @@ def test_contour_of_the_camera_man_has_no_crumbs():
     lum = (data.camera() / 255.0).astype(np.float32) ** 2.2   # sRGB-ish to linear (from memory)
     strokes = contour(lum)
     small = [s for s in strokes if _closed(s) and np.ptp(s, axis=0).max() < 3.0]   # 2 pens less simplification
-    assert not small and len(strokes) < 400   # stroke bound: rough, set by hand (common practice)
+    assert not small and len(strokes) < 400   # stroke bound chosen here by hand (rough)
 
 
 def test_contour_smoothing_follows_the_noise_level():

@@ -5,6 +5,7 @@ from _cv_render import cv_coverage
 from inkreach.trace import hatch, render_strokes
 from inkreach.trace.hatch import layer_fraction
 
+
 # A grey step wedge: bands of known linear reflectance Y.
 _YS = np.array([0.92, 0.8, 0.65, 0.5, 0.35, 0.22, 0.12, 0.05])
 _BAND = 64
@@ -31,7 +32,9 @@ def test_hatch_ink_coverage_matches_tone_on_a_step_wedge(pen_px):
 
 
 def test_crossed_layer_relation():
-    # k independent layers of ink fraction f cover 1 - (1 - f)**k.
+    # k layers of ink fraction f laid independently (each covers a fraction f
+    # of what the others leave bare) cover 1 - (1 - f)**k: the
+    # independent-overlap assumption, worked by hand for these values.
     assert layer_fraction(0.75, 2) == pytest.approx(0.5)
     assert layer_fraction(1 - 0.6 ** 3, 3) == pytest.approx(0.4)
 
@@ -41,13 +44,23 @@ def test_render_strokes_gives_the_pen_width():
     assert cov.sum(axis=0).mean() == pytest.approx(3.0, abs=0.05)
     dot = render_strokes([np.array([[25.0, 20.0]])], (40, 50), 6.0)
     assert dot.sum() == pytest.approx(np.pi * 9, rel=0.03)
+    # the OpenCV renderer used above draws the same widths (geometry: a band
+    # of width w crosses w pixels of each column; a disc of diameter d has
+    # area pi d^2 / 4)
+    for pen in (1.5, 2.0, 3.0):
+        line = cv_coverage([np.array([[-5.0, 20.3], [60.0, 20.3]])], (40, 50), pen)
+        assert line.sum(axis=0).mean() == pytest.approx(pen, abs=0.02)
+    assert cv_coverage([np.array([[25.0, 20.0]])], (40, 50), 6.0).sum() == \
+        pytest.approx(np.pi * 9, rel=0.03)
 
 
 def test_hatch_of_a_flat_grey_is_a_few_long_strokes():
     lum = np.full((200, 200), 0.5, np.float32)
     strokes = hatch(lum)
     total = sum(len(s) for s in strokes)
-    assert len(strokes) <= 8 and total > 100   # rough bound set by hand (common practice)
+    # bound chosen here: one zig-zag field per layer direction (at most 4 at
+    # this tone) with a few breaks; thousands of vertices means long lines
+    assert len(strokes) <= 8 and total > 100
 
 
 def test_darker_tones_get_more_crossing_directions():
@@ -62,7 +75,8 @@ def test_darker_tones_get_more_crossing_directions():
 
 def test_hatch_with_fixed_spacing_steps_through_layers():
     # Lines 2 px wide every 6 px ink f = 1/3 a layer; k crossed layers ink
-    # 1 - (2/3)**k = 0, 0.33, 0.56, 0.70, 0.80 (Murray-Davies, as above).
+    # 1 - (2/3)**k = 0, 0.33, 0.56, 0.70, 0.80 (the independent-overlap
+    # assumption for crossed layers; Murray-Davies turns ink into tone).
     # The lightest band (ink 0.08) is nearest 0 layers and stays bare; the
     # darkest (ink 0.95) is nearest all four, so all four directions appear.
     strokes = hatch(_wedge(), spacing=6.0)
@@ -85,7 +99,8 @@ def test_hatch_lines_stay_inside_dark_regions():
 
 def test_hatch_of_the_demo_still_life_is_a_few_hundred_strokes():
     # The demo picture at the default pen: fields of long zig-zags, not
-    # thousands of crumbs (target from common practice: well under 1,500).
+    # thousands of crumbs (a bound chosen here: 1,500 is about four times the
+    # few hundred strokes the style gives, far below a crumb-per-edge count).
     from pathlib import Path
     from inkreach.trace import load_image
     path = Path(__file__).resolve().parents[1] / "demo_images" / "still-life.png"
@@ -94,5 +109,5 @@ def test_hatch_of_the_demo_still_life_is_a_few_hundred_strokes():
     lum = load_image(path).luminance
     strokes = hatch(lum)
     assert len(strokes) < 1500
-    cov = render_strokes(strokes, lum.shape, 2.0)
+    cov = cv_coverage(strokes, lum.shape, 2.0)                     # OpenCV renders
     assert cov.mean() == pytest.approx(1 - lum.mean(), abs=0.05)   # Murray-Davies overall

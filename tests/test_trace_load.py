@@ -7,7 +7,7 @@ import pytest
 from PIL import Image, ImageFile
 
 from inkreach.errors import InkreachError
-from inkreach.trace import Picture, load_image, srgb_to_linear
+from inkreach.trace import Picture, load_image
 
 
 def _png_chunk(kind, data):
@@ -15,12 +15,55 @@ def _png_chunk(kind, data):
     return struct.pack(">I", len(data)) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
 
 
+def _iec_decode(c):
+    """sRGB decoding written out from IEC 61966-2-1:1999 section 5.2."""
+    c = np.asarray(c, dtype=float)
+    return np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+
+
+# 8-bit grey levels and their decoded values, evaluated from IEC 61966-2-1:1999
+# section 5.2 (10 falls on the linear segment, the others on the power law).
+_GREY = [(0, 0.0), (10, 0.0030353), (64, 0.0512695), (128, 0.2158605), (188, 0.5028865),
+         (255, 1.0)]
+
+
+def _grey_blocks(levels, dtype=np.uint8):
+    return np.repeat(np.repeat(np.array([levels], dtype), 8, axis=0), 8, axis=1)
+
+
+@pytest.mark.parametrize("how", ["png-L", "array-uint8", "array-float"])
+def test_grey_pictures_are_decoded_as_srgb(tmp_path, how):
+    levels = [v for v, _ in _GREY]
+    want = np.repeat([w for _, w in _GREY], 8)
+    a = _grey_blocks(levels)
+    if how == "png-L":
+        path = tmp_path / "grey.png"
+        Image.fromarray(a, mode="L").save(path)
+        assert Image.open(path).mode == "L"
+        src = path
+    elif how == "array-uint8":
+        src = a
+    else:
+        src = a / 255.0
+    y = load_image(src).luminance
+    np.testing.assert_allclose(y[0], want, atol=2e-6)
+
+
+def test_sixteen_bit_grey_is_decoded_as_srgb(tmp_path):
+    # 30000 / 65535 decodes to 0.1770148 (IEC 61966-2-1 power-law piece)
+    a = np.full((16, 16), 30000, np.uint16)
+    path = tmp_path / "grey16.png"
+    Image.fromarray(a).save(path)
+    assert load_image(path).luminance[0, 0] == pytest.approx(0.1770148, abs=2e-6)
+
+
 def test_load_gives_linear_luminance_with_rec709_weights():
-    # Rec. 709 / sRGB: Y = 0.2126 R + 0.7152 G + 0.0722 B of linear values.
+    # Rec. 709 / sRGB: Y = 0.2126 R + 0.7152 G + 0.0722 B of linear values
+    # (IEC 61966-2-1 Annex / ITU-R BT.709), decoded by the standard's formula.
     a = np.zeros((10, 10, 3), np.uint8)
     a[..., 0], a[..., 1], a[..., 2] = 200, 100, 50
     y = load_image(a).luminance
-    lin = srgb_to_linear(np.array([200, 100, 50]) / 255.0)
+    lin = _iec_decode(np.array([200, 100, 50]) / 255.0)
     assert y.dtype == np.float32
     np.testing.assert_allclose(y, 0.2126 * lin[0] + 0.7152 * lin[1] + 0.0722 * lin[2], atol=1e-6)
 
@@ -63,7 +106,7 @@ def test_sixteen_bit_png_keeps_its_levels(tmp_path):
     path = tmp_path / "deep.png"
     Image.fromarray(a).save(path)
     y = load_image(path).luminance
-    np.testing.assert_allclose(y[0], srgb_to_linear(a[0] / 65535.0), atol=1e-5)
+    np.testing.assert_allclose(y[0], _iec_decode(a[0] / 65535.0), atol=1e-5)
 
 
 def test_cmyk_jpeg_is_read(tmp_path):
@@ -173,3 +216,94 @@ def test_float_and_pillow_sources():
         load_image(np.full((10, 10), 2.0))
     with pytest.raises(InkreachError, match="file path"):
         load_image(42)
+
+
+# --- cases found by mutation testing (tests/MUTATION.md) ---------------------
+
+@pytest.mark.parametrize("a, words", [
+    (np.zeros((10, 10, 2), np.uint8), r"array: an array picture must be \(H, W\) or \(H, W, 3 or 4\)"),
+    (np.full((10, 10), "x"), r"array: an array picture must be numeric, not <U1"),
+    (np.full((10, 10), 300, np.int32), "array: an integer array picture must be uint8 or uint16"),
+    (np.full((10, 10), -1, np.int32), "array: an integer array picture must be uint8 or uint16"),
+    (np.full((10, 10), np.nan), "array: the array picture has NaN or infinite values"),
+    (np.full((10, 10), 1.5), r"array: a float array picture must hold values in \[0, 1\]"),
+])
+def test_bad_arrays_are_refused_with_their_own_line(a, words):
+    with pytest.raises(InkreachError, match=words):
+        load_image(a)
+
+
+def test_arrays_of_every_accepted_kind_decode_alike():
+    # IEC 61966-2-1: 8-bit 128 decodes to 0.2158605 (see _GREY above); the
+    # same level as int32, as uint16 (128 * 257) and as a float, as (H, W, 1)
+    want = 0.2158605
+    for a in (np.full((10, 10), 128, np.int32), np.full((10, 10), 0, np.int64) + 128,
+              np.full((10, 10, 1), 128, np.uint8), np.full((10, 10), 128 * 257, np.uint16),
+              np.full((10, 10), 128 / 255.0), np.full((10, 10), 128 / 255.0, np.float32)):
+        assert load_image(a).luminance[0, 0] == pytest.approx(want, abs=2e-6), a.dtype
+    # zeros are fine in an integer array (black)
+    assert load_image(np.zeros((10, 10), np.int32)).luminance.max() == 0.0
+
+
+def test_float_colour_arrays_decode_and_composite_on_white():
+    # float sRGB (0.5, 0.5, 0.5) decodes to 0.2140411 (IEC 61966-2-1); half
+    # transparent over white paper gives 0.5 * 0.2140411 + 0.5 in linear light
+    rgb = np.full((10, 10, 3), 0.5)
+    assert load_image(rgb).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+    rgba = np.concatenate([rgb, np.full((10, 10, 1), 0.5)], axis=2)
+    assert load_image(rgba).luminance[0, 0] == pytest.approx(0.5 * 0.2140411 + 0.5, abs=2e-6)
+    opaque = np.concatenate([rgb, np.ones((10, 10, 1))], axis=2)
+    assert load_image(opaque).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+
+
+def test_pillow_modes_with_alpha_transparency_and_wide_values(tmp_path):
+    # grey + alpha ("LA"): grey 0 half transparent over white -> 0.5 in linear light
+    la = Image.fromarray(np.dstack([np.zeros((10, 10), np.uint8),
+                                    np.full((10, 10), 128, np.uint8)]), mode="LA")
+    assert load_image(la).luminance[0, 0] == pytest.approx(1 - 128 / 255, abs=1e-4)
+    # RGB with a transparent colour (PNG tRNS): that colour is white paper
+    rgb = Image.new("RGB", (10, 10), (0, 0, 0))
+    path = tmp_path / "trns.png"
+    rgb.save(path, transparency=(0, 0, 0))
+    assert load_image(path).luminance.min() == pytest.approx(1.0)
+    gray = Image.new("L", (10, 10), 0)
+    path = tmp_path / "trns_l.png"
+    gray.save(path, transparency=0)
+    assert load_image(path).luminance.min() == pytest.approx(1.0)
+    # 32-bit float ("F") in [0, 1]: decoded as sRGB like any other grey
+    f = Image.fromarray(np.full((10, 10), 0.5, np.float32), mode="F")
+    assert load_image(f).luminance[0, 0] == pytest.approx(0.2140411, abs=2e-6)
+    # 32-bit integer ("I") above 16 bits: scaled by its own maximum
+    i = Image.fromarray(np.array([[100000] * 10, [50000] * 10] * 5, np.int32), mode="I")
+    y = load_image(i).luminance
+    assert y[0, 0] == pytest.approx(1.0) and y[1, 0] == pytest.approx(0.2140411, abs=2e-6)
+    # 16-bit exactly at full scale is white, not rescaled
+    i16 = Image.fromarray(np.full((10, 10), 65535, np.int32), mode="I")
+    assert load_image(i16).luminance[0, 0] == pytest.approx(1.0)
+
+
+def test_file_errors_name_the_file_and_say_what_to_do(tmp_path):
+    (tmp_path / "pics").mkdir()
+    with pytest.raises(InkreachError, match=r"^pics: is a folder, not a picture; give the path"):
+        load_image(tmp_path / "pics")
+    (tmp_path / "empty.png").write_bytes(b"")
+    with pytest.raises(InkreachError, match=r"^empty.png: the file is empty; give a PNG, JPEG, "
+                                            r"WebP, TIFF, BMP or GIF picture"):
+        load_image(tmp_path / "empty.png")
+    (tmp_path / "notes.png").write_text("hello")
+    with pytest.raises(InkreachError, match=r"^notes.png: is not a picture that can be read; "
+                                            r"give a PNG, JPEG, WebP, TIFF, BMP or GIF file"):
+        load_image(tmp_path / "notes.png")
+
+
+def test_size_limits_are_checked_for_arrays_and_images():
+    with pytest.raises(InkreachError, match=r"^array: the picture is 100x100 pixels, more than "
+                                            r"5,000 allowed"):
+        load_image(np.zeros((100, 100)), max_pixels=5000)
+    with pytest.raises(InkreachError, match=r"^picture: the picture is 100x100 pixels, more than"):
+        load_image(Image.new("L", (100, 100)), max_pixels=5000)
+    assert load_image(np.zeros((20, 20)), max_side=8).luminance.shape == (8, 8)
+    with pytest.raises(InkreachError, match="max_side must be at least 8"):
+        load_image(np.zeros((20, 20)), max_side=7)
+    with pytest.raises(InkreachError, match=r"give a file path, a Pillow image or a numpy array"):
+        load_image(3.5)

@@ -13,8 +13,8 @@ from PIL import Image, ImageDraw
 from inkreach.errors import InkreachError
 from inkreach.web import create_app, decimate_strokes, parse_options, region_outline
 
-# The stats fields and joints.csv header are fixed in DESIGN.md (the project's contract).
-DESIGN_STATS = ("strokes", "pen_lifts", "pen_down_mm", "pen_up_mm", "estimated_s",
+# The stats fields and joints.csv header are fixed by the README (output files, figures).
+README_STATS = ("strokes", "pen_lifts", "pen_down_mm", "pen_up_mm", "estimated_s",
                 "min_conditioning")
 JOINTS_HEADER = "t_s,theta1_deg,theta2_deg,pen,x_mm,y_mm"
 
@@ -98,7 +98,7 @@ def test_good_plan_returns_design_stats_and_a_joints_csv(client, png_bytes):
     r = _post(client, png_bytes)
     assert r.status_code == 200, r.text
     body = r.json()
-    for k in DESIGN_STATS:
+    for k in README_STATS:
         assert k in body["stats"]
     assert body["stats"]["strokes"] >= 1
     assert body["files"]["joints.csv"] == f"/api/plans/{body['id']}/files/joints.csv"

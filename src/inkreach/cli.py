@@ -18,7 +18,7 @@ _PLAN_EXAMPLE = """\
 examples:
   inkreach plan photo.jpg                       outline style, default arm, files in ./inkreach-out
   inkreach plan logo.png --style centerline --out logo-plan
-  inkreach plan face.jpg --style hatch --arm my_arm.toml --paper 0 60 148 105
+  inkreach plan face.jpg --style hatch --arm my_arm.toml --paper '0 60 148 105'
   inkreach plan cat.jpg --style stipple --set dots=6000 --set mode=line --format json
   inkreach plan logo.svg                        an SVG file's lines, as drawn
   inkreach plan --text "Happy birthday" --text-height 12
@@ -190,6 +190,8 @@ def build_parser():
     _COMMANDS.update(add_board_commands(sub))
     from .board.run_cli import add_run_command
     add_run_command(sub, _COMMANDS)
+    from .check.command import add_parser as _add_check
+    _add_check(sub)
     return top
 
 
@@ -339,8 +341,13 @@ def _cmd_styles(args):
     return 0
 
 
+def _cmd_check(args):
+    from .check.command import run
+    return run(args)
+
+
 _COMMANDS = {"plan": _cmd_plan, "demo": _cmd_demo, "arm": _cmd_arm, "serve": _cmd_serve,
-             "calibrate": _cmd_calibrate, "styles": _cmd_styles}
+             "calibrate": _cmd_calibrate, "styles": _cmd_styles, "check": _cmd_check}
 
 
 def _fmt_time(s):

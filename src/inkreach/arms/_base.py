@@ -4,7 +4,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ._linalg import inverse_condition
+from ._linalg import LIMIT_TOL, inverse_condition
 
 __all__ = ["Limits", "PenSpec", "Arm"]
 
@@ -134,7 +134,7 @@ class Arm:
         ndarray of bool, shape (N,) or ()
         """
         q = np.asarray(q, dtype=float)
-        eps = 1e-9
+        eps = LIMIT_TOL
         ok = np.all((q >= self.limits.lower - eps) & (q <= self.limits.upper + eps), axis=-1)
         return ok
 

@@ -5,7 +5,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._base import Arm
-from ._linalg import wrap_into
+from ._linalg import LIMIT_TOL, wrap_into
 
 __all__ = ["SerialArm"]
 
@@ -71,8 +71,9 @@ class SerialArm(Arm):
 
         Returns NaN where the point is out of reach (farther than
         ``upper + lower`` or nearer than ``|upper - lower|``). ``t1`` is
-        wrapped into ``[lower limit, lower limit + 2 pi)``; ``t2`` keeps its
-        sign from the elbow sense.
+        wrapped into ``[lower limit - 1e-9, lower limit - 1e-9 + 2 pi)``, so an
+        angle on a limit stays there; ``t2`` keeps its sign from the elbow
+        sense.
         """
         p = np.asarray(p, dtype=float)
         single = p.ndim == 1
@@ -85,7 +86,7 @@ class SerialArm(Arm):
         sgn = 1.0 if self.elbow == "ccw" else -1.0
         t2 = sgn * np.arccos(np.clip(c2, -1.0, 1.0))
         t1 = np.arctan2(X[:, 1], X[:, 0]) - np.arctan2(l2 * np.sin(t2), l1 + l2 * np.cos(t2))
-        q = np.stack([wrap_into(t1, self.limits.theta1[0]), t2], axis=1)
+        q = np.stack([wrap_into(t1, self.limits.theta1[0] - LIMIT_TOL), t2], axis=1)
         q[bad] = np.nan
         return q[0] if single else q
 

@@ -5,6 +5,6 @@ a plan folder and tests every promise of the stream; ``inkreach check`` and
 ``inkreach run`` both call it before anything moves.
 """
 
-from .plancheck import PlanCheck, check_plan
+from .plancheck import PROMISES, PlanCheck, check_plan
 
-__all__ = ["PlanCheck", "check_plan"]
+__all__ = ["PROMISES", "PlanCheck", "check_plan"]

@@ -213,7 +213,7 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     if not T > 0:
         _fail(f"the stream's period is {T!r}; it must be greater than zero")
     if (k := _first(~np.isin(pen, (0, 1)))) is not None:
-        _fail(f"{_where(k, T)}: pen is {pen[k]!r}; it must be 0 (lifted) or 1 (down)")
+        _fail(f"{_where(k, T)}: pen is {pen[k].item()!r}; it must be 0 (lifted) or 1 (down)")
     dt_err = np.abs(t - np.arange(N) * T)
     if (k := _first(~(dt_err <= 1e-6 + 1e-9 * np.abs(t)))) is not None:
         _fail(f"{_where(k, T)}: time {t[k]:.6f} s is off the fixed period {T:g} s; "

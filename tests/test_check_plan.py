@@ -1,0 +1,364 @@
+"""The saved-plan check: a clean plan passes, each broken promise is named.
+
+Every test starts from a real plan written by ``inkreach.plan(...).save``
+and edits plan.json or joints.csv to break exactly one promise, by a little
+more than the slack the printed decimals allow (angles 1e-6 deg, x/y and
+times 1e-4): just past each limit, never far past it, so a check that
+loosened or dropped one joint's test would let it through.
+"""
+
+import json
+import shutil
+
+import numpy as np
+import pytest
+from PIL import Image, ImageDraw
+
+import inkreach
+from inkreach.check import PROMISES, check_plan
+from inkreach.check import _kinematics as kin
+from inkreach.cli import main
+
+_FMT = ("%.4f", "%.6f", "%.6f", "%d", "%.4f", "%.4f")   # joints.csv as the exporter writes it
+_HEADER = "t_s,theta1_deg,theta2_deg,pen,x_mm,y_mm"
+
+
+@pytest.fixture(scope="module")
+def saved(tmp_path_factory):
+    im = Image.new("L", (240, 240), 255)
+    d = ImageDraw.Draw(im)
+    d.rectangle([40, 40, 200, 200], outline=0, width=6)
+    d.line([60, 180, 180, 60], fill=0, width=6)
+    d.ellipse([90, 90, 150, 150], outline=0, width=6)
+    pic = tmp_path_factory.mktemp("pic") / "pic.png"
+    im.save(pic)
+    out = tmp_path_factory.mktemp("plan")
+    inkreach.plan(str(pic), style="centerline", fidelity=False).save(out)
+    meta = json.loads((out / "plan.json").read_text())
+    # The tip-speed promise is tested on its own below (with the limit set
+    # around the measured speed); the other tests leave it unrecorded.
+    meta["options"]["tip_speed"] = None
+    (out / "plan.json").write_text(json.dumps(meta))
+    return out
+
+
+def _copy(saved, tmp_path):
+    dst = tmp_path / "plan"
+    shutil.copytree(saved, dst)
+    return dst
+
+
+def _rows(folder):
+    return np.loadtxt(folder / "joints.csv", delimiter=",", skiprows=1)
+
+
+def _write_rows(folder, rows):
+    np.savetxt(folder / "joints.csv", rows, fmt=_FMT, delimiter=",", header=_HEADER,
+               comments="")
+
+
+def _meta(folder):
+    return json.loads((folder / "plan.json").read_text())
+
+
+def _write_meta(folder, meta):
+    (folder / "plan.json").write_text(json.dumps(meta))
+
+
+def _mirror(folder):
+    """Mirror the plan in x = 0: the symmetric desk arm's joints swap roles.
+
+    With motors at (+-40, 0) and equal legs, the pen at (-x, y) is reached
+    by (180 - theta2, 180 - theta1) deg, so theta1's worst values become
+    theta2's and the second joint's checks are exercised with real data.
+    """
+    r = _rows(folder)
+    r[:, 1], r[:, 2] = 180.0 - r[:, 2], 180.0 - r[:, 1].copy()
+    r[:, 4] = -r[:, 4]
+    _write_rows(folder, r)
+    m = _meta(folder)
+    lo1, hi1 = m["arm"]["limits"]["theta1_deg"]
+    lo2, hi2 = m["arm"]["limits"]["theta2_deg"]
+    m["arm"]["limits"]["theta1_deg"] = [180.0 - hi2, 180.0 - lo2]
+    m["arm"]["limits"]["theta2_deg"] = [180.0 - hi1, 180.0 - lo1]
+    m["strokes"] = [[[-x, y] for x, y in s] for s in m["strokes"]]
+    _write_meta(folder, m)
+
+
+def _only(result, promise):
+    assert not result.ok
+    assert result.broken == (promise,), (result.broken, result.problem)
+    assert result.problem.startswith(promise + ":")
+    assert "\n" not in result.problem
+
+
+def test_the_clean_plan_and_its_mirror_pass(saved, tmp_path):
+    r = check_plan(saved)
+    assert r.ok and r.problem is None and r.broken == (), r.problem
+    assert r.figures["rows"] == len(_rows(saved))
+    assert "not checked" in r.figures["tip speed"]
+    p = _copy(saved, tmp_path)
+    _mirror(p)
+    assert check_plan(p).ok, check_plan(p).problem
+
+
+def test_own_kinematics_match_hand_worked_postures():
+    # Worked by hand from the README conventions: motors (+-40, 0), uppers
+    # 100, lowers 150 at (120, 60) deg put the elbows at (-+90, 86.6025) and
+    # the pen at (0, 86.6025 + sqrt(150^2 - 90^2)) = (0, 206.6025).
+    five = {"kind": "five-bar", "geometry": dict(left_motor=[-40, 0], right_motor=[40, 0],
+                                                 left_upper=100, right_upper=100,
+                                                 left_lower=150, right_lower=150,
+                                                 pen_extension=0.0)}
+    np.testing.assert_allclose(kin.fk(five, np.radians([[120.0, 60.0]])),
+                               [[0.0, 50 * 3 ** 0.5 + 120.0]], atol=1e-9)
+    # Serial (Craig 2005, sec. 3.6): (0, 90) deg with links 150, 110 -> (150, 110).
+    ser = {"kind": "serial", "geometry": dict(shoulder=[0, 0], upper=150, lower=110)}
+    np.testing.assert_allclose(kin.fk(ser, np.radians([[0.0, 90.0]])), [[150.0, 110.0]],
+                               atol=1e-9)
+    # Conditioning of the serial arm at (0, 90): J = [[-110, -110], [150, 0]];
+    # its singular values by hand (eigenvalues of J^T J) give the ratio.
+    ev = np.linalg.eigvalsh(np.array([[-110.0, -110.0], [150.0, 0.0]]).T
+                            @ np.array([[-110.0, -110.0], [150.0, 0.0]]))
+    c, _ = kin.conditioning(ser, np.radians([[0.0, 90.0]]))
+    np.testing.assert_allclose(c, np.sqrt(ev[0] / ev[1]), rtol=1e-7)
+
+
+def test_a_different_arm_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    arm_file = tmp_path / "arm.toml"
+    from inkreach.arms import arm_to_toml, parse_arm
+    text = arm_to_toml(parse_arm(_meta(p)["arm"])).replace("width_mm = 0.5", "width_mm = 0.6")
+    arm_file.write_text(text)
+    _only(check_plan(p, arm=str(arm_file)), "arm")
+    assert "pen.width_mm" in check_plan(p, arm=str(arm_file)).problem
+
+
+def test_a_row_off_the_fixed_period_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[300, 0] += 2e-4          # two printed units: past the 5e-5 s rounding slack
+    _write_rows(p, r)
+    _only(res := check_plan(p), "period")
+    assert "row 302 of joints.csv" in res.problem
+
+
+def test_a_pen_value_other_than_zero_or_one_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[0, 3] = 2                # row 0 is the rest posture, pen lifted
+    _write_rows(p, r)
+    _only(check_plan(p), "pen")
+
+
+@pytest.mark.parametrize("joint", [0, 1])
+@pytest.mark.parametrize("side", ["lower", "upper"])
+def test_each_joint_just_past_each_limit_is_refused(saved, tmp_path, joint, side):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    m = _meta(p)
+    key = ("theta1_deg", "theta2_deg")[joint]
+    lo, hi = m["arm"]["limits"][key]
+    # 1e-3 deg past the stream's extreme: 2000 times the printed rounding.
+    if side == "lower":
+        lo = float(r[:, 1 + joint].min()) + 1e-3
+    else:
+        hi = float(r[:, 1 + joint].max()) - 1e-3
+    m["arm"]["limits"][key] = [lo, hi]
+    if "home" in m["arm"]:
+        del m["arm"]["home"]   # the rest posture may now sit outside; not the point here
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "joint limits")
+    assert f"theta{joint + 1} = " in res.problem and side in res.problem
+
+
+def test_x_y_that_is_not_the_forward_kinematics_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[0, 4] += 3e-4            # pen-up row; slack is about 7e-5 mm
+    _write_rows(p, r)
+    _only(check_plan(p), "kinematics")
+
+
+def test_conditioning_just_below_the_floor_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    c, _ = kin.conditioning(_meta(p)["arm"], np.radians(_rows(p)[:, 1:3]))
+    m = _meta(p)
+    m["arm"]["limits"]["min_conditioning"] = float(c.min()) + 1e-4   # 1e-4 below the floor
+    _write_meta(p, m)
+    _only(res := check_plan(p), "conditioning")
+    # and a floor 1e-4 under the worst row passes (the check is not simply stricter)
+    m["arm"]["limits"]["min_conditioning"] = float(c.min()) - 1e-4
+    _write_meta(p, m)
+    assert check_plan(p).ok, check_plan(p).problem
+    assert "below the floor" in res.problem
+
+
+@pytest.mark.parametrize("mirror", [False, True])
+def test_speed_just_past_the_limit_is_refused(saved, tmp_path, mirror):
+    p = _copy(saved, tmp_path)
+    if mirror:
+        _mirror(p)
+    q = _rows(p)[:, 1:3]
+    worst = np.abs(np.diff(q, axis=0)).max(axis=0) / 0.02
+    j = int(np.argmax(worst))
+    assert worst[j] - worst[1 - j] > 1.0     # only joint j is past the new limit
+    m = _meta(p)
+    m["arm"]["limits"]["max_speed_deg_s"] = float(worst[j]) - 0.05   # slack: 5e-5 deg/s
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "speed")
+    assert f"theta{j + 1} speed" in res.problem
+
+
+@pytest.mark.parametrize("j", [0, 1])
+def test_acceleration_just_past_the_limit_is_refused(saved, tmp_path, j):
+    # Push one joint of one resting pen-up row sideways by delta: its second
+    # difference becomes 2 delta / T^2 there (delta / T^2 beside it), so the
+    # limit is passed by 0.1 % on that joint alone, at that row alone.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    amax = m["arm"]["limits"]["max_accel_deg_s2"]
+    d2 = np.abs(np.diff(r[:, 1:3], n=2, axis=0)).max(axis=1)
+    still = (d2[:-2] < 1e-9) & (d2[1:-1] < 1e-9) & (d2[2:] < 1e-9) & (r[2:-2, 3] == 0)
+    k = int(np.argmax(still)) + 2            # a row at rest, pen up, rest around it
+    assert still.any()
+    r[k, 1 + j] += 1.001 * amax * 0.02 ** 2 / 2
+    r[:, 4:6] = kin.fk(m["arm"], np.radians(r[:, 1:3]))
+    _write_rows(p, r)
+    res = check_plan(p)
+    _only(res, "acceleration")
+    assert f"theta{j + 1} acceleration" in res.problem
+    # the offending second difference is centred on the pushed row
+    assert any(f"t = {(k + i) * 0.02:.4f} s" in res.problem for i in (-1, 0, 1)), res.problem
+
+
+def test_tip_speed_just_past_the_recorded_limit_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    x = kin.fk(m["arm"], np.radians(r[:, 1:3]))
+    down = (r[:-1, 3] == 1) & (r[1:, 3] == 1)
+    worst = float((np.hypot(*np.diff(x, axis=0).T) / 0.02)[down].max())
+    m["options"]["tip_speed"] = worst - 1e-3
+    _write_meta(p, m)
+    _only(check_plan(p), "tip speed")
+    m["options"]["tip_speed"] = worst + 1e-3
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert "limit" in res.figures["tip speed"]
+
+
+def _shift_end(stroke, at_start, by):
+    s = np.asarray(stroke, float)
+    if at_start:
+        u = s[0] - s[1]
+        s[0] = s[0] + by * u / np.hypot(*u)
+    else:
+        u = s[-1] - s[-2]
+        s[-1] = s[-1] + by * u / np.hypot(*u)
+    return s.round(4).tolist()
+
+
+@pytest.mark.parametrize("at_start,words", [(False, "lifts"), (True, "touches down")])
+def test_a_stroke_end_moved_a_little_is_refused(saved, tmp_path, at_start, words):
+    # 0.01 mm along the stroke's own direction: every row stays on the
+    # stroke and every stroke point near the drawn path; only the exact
+    # touch-down or lift at the end is broken.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["strokes"][0] = _shift_end(m["strokes"][0], at_start, 0.01)
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert words in res.problem and "stroke 0" in res.problem
+
+
+def test_strokes_in_the_wrong_order_or_direction_are_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    assert len(m["strokes"]) >= 2
+    m["strokes"] = m["strokes"][::-1]
+    _write_meta(p, m)
+    _only(check_plan(p), "strokes")
+    m["strokes"] = [s[::-1] for s in m["strokes"][::-1]]
+    _write_meta(p, m)
+    _only(check_plan(p), "strokes")
+
+
+def test_a_stroke_not_drawn_whole_is_refused(saved, tmp_path):
+    # A 1 mm there-and-back spur in the middle of stroke 0: the rows stay on
+    # the stroke and its ends are exact, but the spur's tip is never drawn.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    s = m["strokes"][0]
+    k = len(s) // 2
+    a, b = np.array(s[k]), np.array(s[k + 1])
+    n = np.array([-(b - a)[1], (b - a)[0]]) / np.hypot(*(b - a))
+    m["strokes"][0] = s[:k + 1] + [(a + n).round(4).tolist(), s[k]] + s[k + 1:]
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "not drawn whole" in res.problem
+
+
+def test_a_pen_down_row_off_its_stroke_is_refused(saved, tmp_path):
+    # Move one inner stroke point 0.2 mm sideways (chord_tol is 0.05 mm):
+    # rows drawn there are now off the stroke; the ends stay exact.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    s = np.array(m["strokes"][0])
+    k = len(s) // 2
+    u = s[k + 1] - s[k - 1]
+    s[k] += 0.2 * np.array([-u[1], u[0]]) / np.hypot(*u)
+    m["strokes"][0] = s.round(4).tolist()
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "off stroke 0" in res.problem
+
+
+def test_a_split_pen_down_run_is_refused(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    down = np.flatnonzero(r[:, 3] == 1)
+    r[down[len(down) // 2], 3] = 0
+    _write_rows(p, r)
+    _only(check_plan(p), "strokes")
+
+
+def test_every_promise_has_a_test():
+    # the names above cover PROMISES; a new promise needs a new test here
+    assert PROMISES == ("arm", "period", "pen", "joint limits", "kinematics", "conditioning",
+                        "speed", "acceleration", "tip speed", "strokes")
+
+
+def test_command_line_exit_codes(saved, tmp_path, capsys):
+    assert main(["check", str(saved)]) == 0
+    out = capsys.readouterr().out
+    assert "every promise holds" in out and "conditioning" in out
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[0, 4] += 3e-4
+    _write_rows(p, r)
+    assert main(["check", str(p)]) == 1
+    out = capsys.readouterr().out.strip().splitlines()
+    assert len(out) == 1 and out[0].startswith("inkreach check: kinematics: row 2")
+    assert main(["check", str(tmp_path / "missing")]) == 2
+    (p / "joints.csv").write_text("not,a,plan\n")
+    assert main(["check", str(p)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 2 and all(e.startswith("inkreach: error:") for e in err)
+
+
+@pytest.mark.xfail(reason="the planner's pen speed overshoots tip_speed by about 1e-4 of it "
+                          "(joint-linear segments, bound taken at their ends)", strict=False)
+def test_a_plan_made_with_a_tip_speed_keeps_it(saved, tmp_path):
+    pic = next(saved.parent.glob("pic*/pic.png"))
+    out = tmp_path / "tip"
+    inkreach.plan(str(pic), style="centerline", fidelity=False, tip_speed=60).save(out)
+    res = check_plan(out)
+    assert res.ok, res.problem
