@@ -38,9 +38,9 @@ def _number_list(n):
 def _value(text):
     """Parse a --set value: number, true/false, list, or text."""
     t = text.strip()
-    if t.lower() in ("true", "yes", "on"):
+    if t.lower() == "true":
         return True
-    if t.lower() in ("false", "no", "off"):
+    if t.lower() == "false":
         return False
     try:
         return int(t)
@@ -79,25 +79,35 @@ def _add_plan_options(p):
     p.add_argument("--paper", type=_number_list(4), metavar="'X Y W H'",
                    help="paper rectangle in arm mm (lower-left corner, width, height) the "
                         "drawing must stay inside")
-    p.add_argument("--margin", type=float, default=5.0, metavar="MM",
-                   help="margin inside the paper, mm (default 5)")
+    p.add_argument("--margin", type=float, default=None, metavar="MM",
+                   help="margin inside the paper, or inside the usable region without one, "
+                        "mm (default 5; 0 to 1000: wider leaves no room on any desk arm)")
     p.add_argument("--size", type=float, default=None, metavar="MM",
                    help="fixed length of the drawing's longer side, mm (default: as large "
-                        "as the arm allows)")
-    p.add_argument("--prefer", choices=("largest", "isotropic"), default="largest",
+                        "as the arm allows; 1 to 5000)")
+    p.add_argument("--prefer", choices=("largest", "isotropic"), default=None,
                    help="where to put the drawing: as large as possible, or around the "
                         "arm's best-conditioned point (default largest)")
     p.add_argument("--upright", action="store_true",
                    help="never rotate the drawing (by default a few tilts are tried and "
                         "the largest fit is kept)")
-    p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
-                   help="how far a drawn line may stray from straight, mm (default 0.05)")
-    p.add_argument("--period", type=float, default=0.02, metavar="S",
-                   help="sample period of the joint stream, seconds (default 0.02)")
+    p.add_argument("--chord-tol", type=float, default=None, metavar="MM",
+                   help="how far a drawn line may stray from straight, mm (default 0.05; "
+                        "0.001 to 10: finer no motor follows, coarser lines visibly bend)")
+    p.add_argument("--period", type=float, default=None, metavar="S",
+                   help="sample period of the joint stream, seconds (default 0.02; 0.001 to "
+                        "1: faster few controllers keep up, slower cannot follow a stroke)")
     p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
-                   help="largest pen speed while drawing, mm/s (default: the motion stage's)")
-    p.add_argument("--signals", choices=("auto", "servo", "stepper", "both"), default="auto",
-                   help="motor signals to export (default: from the arm file)")
+                   help="largest pen speed while drawing, mm/s (default: the motion stage's; "
+                        "0.01 to 10000)")
+    p.add_argument("--signals", choices=("auto", "servo", "stepper", "both", "none"),
+                   default=None,
+                   help="motor signals to export, or none (default auto: from the arm file)")
+    p.add_argument("--budget", action="append", default=[], metavar="NAME=N",
+                   help="most work one plan may take: rows=N stream rows (default 300000), "
+                        "pixels=N pixel visits of tracing (default 12000000), dot_rounds=N "
+                        "stipple dots x iterations (default 2000000); a plan above it is "
+                        "refused before it starts")
     p.add_argument("--format", choices=("table", "json"), default="table",
                    help="how to print the figures (default table)")
     p.add_argument("--quiet", "-q", action="store_true", help="print nothing but errors")
@@ -152,7 +162,11 @@ def build_parser():
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     s.add_argument("--port", type=int, default=8765, help="port (default 8765)")
     s.add_argument("--host", default="127.0.0.1",
-                   help="address to bind (default 127.0.0.1, this computer only)")
+                   help="address to bind (default 127.0.0.1, this computer only); any other "
+                        "needs --allow-network")
+    s.add_argument("--allow-network", action="store_true",
+                   help="allow a --host other computers can reach; the page then asks for "
+                        "the access token printed at start")
 
     c = sub.add_parser("calibrate", help="fit the real arm from measured dots",
                        description="Step 1 'sheet': write a calibration sheet and stream that "
@@ -182,8 +196,11 @@ def _version():
 
 def main(argv=None):
     """Run the command line; returns the exit status."""
-    parser = build_parser()
-    args = parser.parse_args(argv)
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+    except KeyboardInterrupt:  # stopped while starting: nothing to say
+        return 130
     if args.command is None:
         parser.print_help()
         return 0
@@ -191,11 +208,19 @@ def main(argv=None):
     try:
         return _COMMANDS[args.command](args)
     except InkreachError as exc:
-        print(f"inkreach: error: {exc}", file=sys.stderr)
+        from .limits import BudgetError
+        hint = ""
+        if isinstance(exc, BudgetError):
+            hint = f" (or raise the budget: --budget {exc.key}={_round_budget(exc.needed)})"
+        print(f"inkreach: error: {exc}{hint}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("inkreach: stopped; no files were written", file=sys.stderr)
+    except KeyboardInterrupt as exc:
+        print(f"inkreach: stopped; {_stopped_what(args, exc)}", file=sys.stderr)
         return 130
+    except (OSError, MemoryError) as exc:
+        from .cli_errors import environment_message
+        print(f"inkreach: error: {environment_message(exc, args)}", file=sys.stderr)
+        return 2
     except Exception as exc:  # a bug, not bad input: say so in one line
         if debug:
             raise
@@ -205,18 +230,59 @@ def main(argv=None):
         return 3
 
 
+#: Options that have their own flag: option name -> flag.
+_FLAGGED = {"paper": "--paper", "margin": "--margin", "size": "--size", "prefer": "--prefer",
+            "chord_tol": "--chord-tol", "period": "--period", "tip_speed": "--tip-speed",
+            "signals": "--signals", "rotations": "--upright", "budget": "--budget"}
+
+
+def _round_budget(n):
+    """A round budget figure a little above ``n``."""
+    n = max(int(n), 1)
+    step = 10 ** max(len(str(n)) - 2, 0)
+    return (n // step + 1) * step
+
+
+def _stopped_what(args, exc):
+    """What an interrupt left behind, truthfully."""
+    out = getattr(args, "out", None)
+    committed = getattr(exc, "committed", None)
+    if committed is True or getattr(args, "_written", False):
+        return f"the new files had already been written to {out}"
+    if committed is False:
+        return (f"{out} was left as it was" if os.path.isdir(out)
+                else "no files were written")
+    return "no files were written"
+
+
 def _plan_kwargs(args):
+    from .limits import budget_from_text, describe_text
+
     opts = {}
     for item in args.set:
         if "=" not in item:
-            raise InkreachError(f"--set {item!r} needs the form NAME=VALUE, e.g. --set detail=0.7")
+            raise InkreachError(f"--set {describe_text(item)} needs the form NAME=VALUE, "
+                                "e.g. --set detail=0.7")
         k, v = item.split("=", 1)
-        opts[k.strip().replace("-", "_")] = _value(v)
-    opts.update(paper=args.paper, margin=args.margin, size=args.size, prefer=args.prefer,
-                chord_tol=args.chord_tol, period=args.period, tip_speed=args.tip_speed,
-                signals=args.signals)
-    if args.upright:
-        opts["rotations"] = [0.0]
+        k = k.strip().replace("-", "_")
+        if k in opts:
+            raise InkreachError(f"--set {k} is given twice; give it once")
+        if k == "budget":
+            raise InkreachError("set the budget with --budget NAME=N, e.g. --budget rows=1000000")
+        opts[k] = _value(v)
+    flags = {"paper": args.paper, "margin": args.margin, "size": args.size,
+             "prefer": args.prefer, "chord_tol": args.chord_tol, "period": args.period,
+             "tip_speed": args.tip_speed, "signals": args.signals,
+             "rotations": [0.0] if args.upright else None}
+    for k, v in flags.items():
+        if v is None:
+            continue
+        if k in opts:
+            raise InkreachError(f"{k} is given both as {_FLAGGED[k]} and as --set {k}; "
+                                "give it once")
+        opts[k] = v
+    if args.budget:
+        opts["budget"] = budget_from_text(args.budget)
     return opts
 
 
@@ -241,10 +307,14 @@ def _cmd_plan(args, image=None, style=None):
     with _Progress(enabled=not args.quiet and args.format == "table") as prog:
         result = plan(image, arm=args.arm, style=style, progress=prog, **_plan_kwargs(args))
     written = result.save(args.out)
+    args._written = True
     if args.format == "json":
         print(json.dumps({"stats": result.stats, "files": written}, indent=2))
     elif not args.quiet:
         print(_figures_table(result, written))
+    if not args.quiet:
+        for line in result.stats.get("warnings", ()):
+            print(f"inkreach: warning: {line}", file=sys.stderr)
     return 0
 
 
@@ -288,7 +358,7 @@ def _cmd_arm(args):
 
 def _cmd_serve(args):
     from .web import serve
-    serve(host=args.host, port=args.port)
+    serve(host=args.host, port=args.port, allow_network=args.allow_network)
     return 0
 
 

@@ -3,6 +3,7 @@
 from ._colour import conditioning_ramp, order_ramp
 from .files import atomic_write, png_bytes, write_files
 from .firmware import firmware_header
+from .folder import MANIFEST, WriteInterrupted, replace_folder
 from .picture import arm_map_png, preview_png
 from .planfile import PLAN_FORMAT, plan_json
 from .safety import SAFETY_TEXT
@@ -14,5 +15,5 @@ __all__ = [
     "SAFETY_TEXT", "atomic_write", "write_files", "png_bytes", "plan_json", "PLAN_FORMAT",
     "joints_csv", "servo_csv", "stepper_csv", "JOINTS_HEADER", "firmware_header",
     "simulated_png", "pen_down_paths", "auto_px_per_mm", "preview_svg", "preview_png", "arm_map_png",
-    "order_ramp", "conditioning_ramp",
+    "order_ramp", "conditioning_ramp", "replace_folder", "WriteInterrupted", "MANIFEST",
 ]

@@ -98,7 +98,8 @@ OPTIONS = {
     "hatch": {
         "pen_px": _PEN,
         "spacing": (None, "fixed gap between hatch lines in pixels (None: set per tone so the "
-                          "ink matches the picture)", _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
+                          "ink matches the picture; at least 0.5: closer lines cannot be told apart)",
+                    _Number(0.5, 1000.0, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
         "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
         "levels": (12, "how many tone steps are told apart", _Number(2, 64, integer=True)),
