@@ -261,7 +261,7 @@ def _numbers(name, v, n=None, what="numbers"):
     return out
 
 
-def check_plan_options(place, motion, own):
+def check_plan_options(place, motion, own, user_set=None):
     """Check the placement, motion and planner options; return cleaned copies.
 
     Parameters
@@ -270,6 +270,9 @@ def check_plan_options(place, motion, own):
         Options of :data:`inkreach.plan.PLACE_OPTIONS`,
         :data:`inkreach.plan.MOTION_OPTIONS` and the planner's own, with
         their defaults filled in.
+    user_set : collection of str, optional
+        Names the caller gave; a margin given without a paper is refused
+        (it would do nothing).
 
     Returns
     -------
@@ -317,6 +320,10 @@ def check_plan_options(place, motion, own):
             raise InkreachError("option paper needs a width and height above zero and values "
                                 "within 100 m of the motors, in mm: x y width height")
         place["paper"] = (x0, y0, w, h)
+    if user_set is not None and "margin" in user_set and place.get("paper") is None \
+            and place.get("margin"):
+        raise InkreachError("option margin is kept inside a paper rectangle; give paper too "
+                            "(x y width height in mm), or leave margin out")
     for k in ("joint_order", "fidelity"):
         if k in own:
             own[k] = _boolean(k, own[k])
@@ -635,14 +642,38 @@ def check_dwell_rows(style, options, arm, period, budget=DEFAULT_BUDGET, user=()
                           f"budget of {_fmt_count(budget.rows)} rows; {fix}", "rows", rows)
 
 
-def check_pen_px(pen_px, arm, image_size, limit=100.0):
+def check_pen_px(pen_px, arm, image_size, working_shape=None, limit=100.0):
     """Refuse a picture on which the pen would be wider than ``limit`` working pixels.
 
     Said in the user's terms: the picture, its size on the arm and the pen.
     """
+    if working_shape is not None and min(working_shape[:2]) < 2:
+        w, h = image_size
+        raise InkreachError(f"the {w}x{h} picture is too thin to trace at max_side="
+                            f"{max(working_shape[:2])}; use a picture with more room in both "
+                            "directions or a larger max_side")
     if not (math.isfinite(pen_px) and 0 < pen_px <= limit):
         w, h = image_size
         raise InkreachError(f"the {w}x{h} picture is too small or too thin to draw with a "
                             f"{arm.pen.width_mm:g} mm pen at the size it can have on this "
                             "arm; use a picture with more room in both directions, a larger "
                             "size or a finer [pen] width_mm")
+
+
+_RETRY = ("; plan the motion again inside the usable region", "; plan the motion again",
+          "; plan again")
+
+
+def in_user_terms(message, period, chord_tol):
+    """Replace advice a user cannot act on ("plan the motion again") by what to change.
+
+    Examples
+    --------
+    >>> in_user_terms("row 9 is too fast; plan the motion again", 0.02, 0.05)
+    'row 9 is too fast; use a shorter period (now 0.02 s) or a larger chord_tol (now 0.05 mm)'
+    """
+    for tail in _RETRY:
+        if message.endswith(tail):
+            return (message[:-len(tail)] + f"; use a shorter period (now {period:g} s) or a "
+                    f"larger chord_tol (now {chord_tol:g} mm)")
+    return message

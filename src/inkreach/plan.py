@@ -227,7 +227,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     place_opts, motion_opts, own, style_opts = _split_options(options)
     # every value is checked against its stated range, and the work it
     # implies against the budget, before that work starts (limits.py)
-    place_opts, motion_opts, own = limits.check_plan_options(place_opts, motion_opts, own)
+    place_opts, motion_opts, own = limits.check_plan_options(place_opts, motion_opts, own,
+                                                             user_set)
     budget = own["budget"] if own["budget"] is not None else limits.DEFAULT_BUDGET
     max_side = own["max_side"]
     limits.check_style_options(style, style_opts, budget, user_set)
@@ -247,7 +248,7 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
                                                        ("paper", "margin", "size")})
     pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
-    limits.check_pen_px(pen_px, arm, (W, H))
+    limits.check_pen_px(pen_px, arm, (W, H), np.shape(pic.luminance))
     limits.check_style_work(style, style_opts, int(np.prod(np.shape(pic.luminance)[:2])),
                             pen_px, budget, user_set)
     step("trace")
@@ -279,7 +280,12 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
                          **motion_opts)
     step("check")
-    report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
+    try:
+        report = check_stream(stream, arm, strokes=route.strokes,
+                              chord_tol=motion_opts["chord_tol"])
+    except InkreachError as exc:
+        raise InkreachError(limits.in_user_terms(str(exc), motion_opts["period"],
+                                                 motion_opts["chord_tol"])) from None
     signals, signal_notes = checked_signals(stream, arm, own["signals"], motion_opts["chord_tol"])
     reached = _reached_xy(stream, arm, signals)
     travel = travel_stats(route.strokes, start=start_xy)

@@ -133,14 +133,17 @@ def _sniff_picture(data, max_pixels):
     try:
         with _pil_limit(max_pixels):
             im = Image.open(io.BytesIO(data))
+    except Image.DecompressionBombError:
+        raise _ApiError(413, f"the picture is far too large; shrink it below "
+                             f"{max_pixels // 1_000_000} megapixels") from None
     except (UnidentifiedImageError, Image.DecompressionBombError, OSError, ValueError,
             SyntaxError):
         raise _ApiError(415, "the upload is not a picture this page can read; "
                              "send a PNG, JPEG, GIF, BMP, TIFF or WebP file") from None
     w, h = im.size
     if w * h > max_pixels:
-        raise _ApiError(413, f"the picture is {w}x{h} pixels, more than {max_pixels:,} "
-                             "allowed; shrink it first")
+        raise _ApiError(413, f"the picture is far too large ({w}x{h} pixels); shrink it "
+                             f"below {max_pixels // 1_000_000} megapixels")
     try:
         im.load()
     except (OSError, ValueError, SyntaxError):
