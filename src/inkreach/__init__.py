@@ -6,6 +6,15 @@
 'five-bar'
 """
 
+import sys as _sys
+
+if _sys.argv[:1] == ["-m"] or (_sys.argv[:1]
+                               and _sys.argv[0].endswith(("/inkreach", "\\inkreach"))):
+    # started as a command: Ctrl-C while the libraries load stops quietly
+    # (status 130); the command line takes Ctrl-C over once it runs
+    from ._startup import quiet_interrupts as _quiet
+    _quiet()
+
 from .arms import (FiveBar, Limits, PenSpec, SerialArm, default_arm, example_arms,
                    largest_rectangle, load_arm, parse_arm, workspace_map)
 from .errors import InkreachError

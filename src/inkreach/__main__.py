@@ -1,5 +1,6 @@
 """``python -m inkreach`` runs the command line."""
 
+import signal
 import sys
 
 try:
@@ -7,4 +8,11 @@ try:
 except KeyboardInterrupt:  # Ctrl-C while starting: stop quietly
     sys.exit(130)
 
-raise SystemExit(main())
+try:
+    _code = main()
+except KeyboardInterrupt:  # between the command's end and here
+    _code = 130
+# the work is done and reported: a late Ctrl-C must not kill the
+# interpreter while it shuts down (that exits with no message)
+signal.signal(signal.SIGINT, signal.SIG_IGN)
+raise SystemExit(_code)

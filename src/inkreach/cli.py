@@ -196,6 +196,8 @@ def _version():
 
 def main(argv=None):
     """Run the command line; returns the exit status."""
+    from ._startup import normal_interrupts
+    normal_interrupts()
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
