@@ -280,7 +280,8 @@ async def _unless_abandoned(request, fut, cancel, poll=0.25):
         done, _ = await asyncio.wait({fut}, timeout=poll)
         if done:
             return fut.result()
-        if await request.is_disconnected():
+        gone = request.scope.get("inkreach.gone")
+        if (gone is not None and gone.is_set()) or await request.is_disconnected():
             cancel.set()
             try:
                 return await fut

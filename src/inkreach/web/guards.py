@@ -71,7 +71,44 @@ class GuardMiddleware:
                                        self.token.encode("utf-8")):
                 return await _refuse(send, 401, "this page needs its access token: type the "
                                                 "one printed where 'inkreach serve' started")
-        return await self.app(scope, receive, send)
+        if scope["method"] != "POST":
+            return await self.app(scope, receive, send)
+        return await _watching(self.app, scope, receive, send)
+
+
+async def _watching(app, scope, receive, send):
+    """Run ``app``; once it has read the whole body, note when the client goes away.
+
+    ``scope["inkreach.gone"]`` is an :class:`asyncio.Event` set when the
+    connection closes, so long work can be stopped for a client that left.
+    """
+    import asyncio
+
+    gone = asyncio.Event()
+    scope["inkreach.gone"] = gone
+    watcher = None
+
+    async def watch():
+        while True:
+            msg = await receive()
+            if msg["type"] == "http.disconnect":
+                gone.set()
+                return
+
+    async def wrapped():
+        nonlocal watcher
+        msg = await receive()
+        if msg["type"] == "http.disconnect":
+            gone.set()
+        elif not msg.get("more_body", False) and watcher is None:
+            watcher = asyncio.ensure_future(watch())
+        return msg
+
+    try:
+        return await app(scope, wrapped, send)
+    finally:
+        if watcher is not None:
+            watcher.cancel()
 
 
 async def _refuse(send, status, message):

@@ -75,6 +75,7 @@ def serve(host="127.0.0.1", port=8765, open_browser=False, allow_network=False, 
     sock = socket.socket(family, socket.SOCK_STREAM)
     sock.setsockopt(socket.SOL_SOCKET, socket.SO_REUSEADDR, 1)
     sock.bind((host.strip("[]"), int(port)))
+    sock.listen(128)  # listening before the address is printed: no refused first connect
     real_port = sock.getsockname()[1]
     shown = f"[{host.strip('[]')}]" if ":" in host else host
     url = f"http://{shown}:{real_port}/"
