@@ -304,6 +304,8 @@ def _cmd_plan(args, image=None, style=None):
     from .plan import plan
 
     _check_out_dir(args.out)
+    from .export.folder import check_replaceable
+    check_replaceable(args.out)  # refused now, not after the planning
     image = args.image if image is None else image
     style = args.style if style is None else style
     with _Progress(enabled=not args.quiet and args.format == "table") as prog:

@@ -21,7 +21,7 @@ from ..errors import InkreachError
 from .files import _as_bytes
 from .safety import SAFETY_TEXT
 
-__all__ = ["replace_folder", "MANIFEST", "WriteInterrupted", "folder_lock", "held_signals"]
+__all__ = ["replace_folder", "check_replaceable", "MANIFEST", "WriteInterrupted", "folder_lock", "held_signals"]
 
 #: Hidden file in every folder :func:`replace_folder` writes: the names it wrote.
 MANIFEST = ".inkreach-manifest.json"
@@ -189,6 +189,31 @@ def _foreign(folder, new_names):
     return sorted(n for n in os.listdir(folder) if n not in allowed)
 
 
+def check_replaceable(folder, names=()):
+    """Refuse at once a folder :func:`replace_folder` would refuse after the work.
+
+    Raises
+    ------
+    InkreachError
+        If ``folder`` is a file, the current folder, or holds files the tool
+        did not write.
+    """
+    folder = os.path.abspath(os.fspath(folder))
+    if os.path.exists(folder) and not os.path.isdir(folder):
+        raise InkreachError(f"output folder {folder} is a file; give a folder path")
+    if not os.path.isdir(folder):
+        return
+    if os.path.samefile(folder, os.getcwd()):
+        raise InkreachError(f"output folder {folder} is the current folder; "
+                            "give a folder of its own with --out")
+    foreign = _foreign(folder, names)
+    if foreign:
+        shown = ", ".join(foreign[:3]) + (" ..." if len(foreign) > 3 else "")
+        raise InkreachError(f"output folder {folder} holds files inkreach did "
+                            f"not write ({shown}); move them away or choose "
+                            "another folder with --out")
+
+
 def _sweep(parent, base):
     """Remove what an earlier, killed run left beside the folder; restore a lost one."""
     target = os.path.join(parent, base)
@@ -316,16 +341,7 @@ def replace_folder(folder, files, safety=True, lock_timeout=60.0):
     try:
         with folder_lock(folder, timeout=lock_timeout):
             _sweep(parent, base)
-            if os.path.isdir(folder):
-                if os.path.samefile(folder, os.getcwd()):
-                    raise InkreachError(f"output folder {folder} is the current folder; "
-                                        "give a folder of its own with --out")
-                foreign = _foreign(folder, blobs)
-                if foreign:
-                    shown = ", ".join(foreign[:3]) + (" ..." if len(foreign) > 3 else "")
-                    raise InkreachError(f"output folder {folder} holds files inkreach did "
-                                        f"not write ({shown}); move them away or choose "
-                                        "another folder with --out")
+            check_replaceable(folder, blobs)
             tmp = tempfile.mkdtemp(dir=parent, prefix=f".{base}.new-")
             try:
                 _write_all(tmp, blobs)
