@@ -71,6 +71,8 @@ _DEFAULT = builtin_arm_text("default")
 @pytest.mark.parametrize("args,words", [
     (["--period", "1e308"], ["period", "far too large", "0.001 to 1 s"]),
     (["--period", "1" + "0" * 300], ["period", "far too large"]),
+    (["--set", "detail=1" + "0" * 300], ["detail"]),
+    (["--style", "stipple", "--set", "mode=" + "x" * 300], ["mode"]),
     (["--set", "rotations=abc"], ["rotations"]),
     (["--set", "rotations=1e308"], ["rotations"]),
     (["--style", "hatch", "--set", "spacing=1e-9"], ["spacing"]),
@@ -240,3 +242,19 @@ def test_web_form_booleans_are_true_or_false_only():
     assert parse_options([("joint_order", "yes")]) == {"joint_order": "yes"}
     with pytest.raises(InkreachError, match="true or false"):
         inkreach.plan(io.BytesIO(b""), joint_order="yes")
+
+
+def test_coarse_stepper_signals_are_warned_with_a_number_and_a_fix(pic, tmp_path, capsys):
+    # 200 full steps x 4 microsteps: 0.45 degree steps, rounding errs by up
+    # to 0.225 degree (half a step, Widrow & Kollar 2008), about 1 mm at the pen
+    arm = _arm(tmp_path, _DEFAULT.replace("[home]", "[stepper]\nsteps_per_rev = 200\n"
+                                                    "microsteps = 4\n[home]"))
+    out = tmp_path / "out"
+    code, err, _ = _run(["plan", str(pic), "--arm", str(arm), "--out", str(out),
+                         "--signals", "stepper", "--set", "fidelity=false", "--format",
+                         "json"], capsys)
+    assert code == 0, err
+    assert "warning" in err and "stepper" in err and "microsteps" in err
+    assert re.search(r"\d+(\.\d+)? mm", err)
+    stats = json.loads((out / "plan.json").read_text())["stats"]
+    assert stats["warnings"] and 0.25 < stats["signal_rounding_mm"] <= 2.0

@@ -43,8 +43,10 @@ class _Number:
             if ok and self.hi is not None:
                 ok = v <= self.hi
         if not ok:
+            from ..limits import describe_number
             raise InkreachError(
-                f"{style} option {name}={value!r} is out of range; use {self.describe()}")
+                f"{style} option {name}={describe_number(value)} is out of range; use "
+                f"{self.describe()}")
         return int(v) if self.integer else v
 
 
@@ -54,8 +56,9 @@ class _Choice:
 
     def __call__(self, style, name, value):
         if value not in self.choices:
+            from ..limits import describe_text
             raise InkreachError(
-                f"{style} option {name}={value!r} is not valid; use one of "
+                f"{style} option {name}={describe_text(value)} is not valid; use one of "
                 + ", ".join(self.choices))
         return value
 
