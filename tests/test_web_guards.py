@@ -256,3 +256,27 @@ def test_an_abandoned_request_stops_its_plan(png):
         assert st in ("trace", "merge", "place"), st
     finally:
         _stop(proc)
+
+
+def test_idle_and_trickling_connections_are_closed_and_the_page_still_answers():
+    proc, url = _start(max_connections=4, header_timeout=1.5)
+    port = int(url.rsplit(":", 1)[1].strip("/"))
+    socks = []
+    try:
+        for k in range(4):
+            s = socket.create_connection(("127.0.0.1", port), timeout=10)
+            if k % 2:
+                s.sendall(b"GET /api/arms HTTP/1.1\r\nHost: 127.0.0")  # never finished
+            socks.append(s)
+        # with every connection slot held, the page cannot answer ...
+        r = httpx.get(url + "api/arms", timeout=30)
+        assert r.status_code == 503
+        # ... until the slow ones are closed (our bound: 1.5 s given, 6 s waited)
+        for s in socks:
+            s.settimeout(6)
+            assert s.recv(100) == b""
+        assert httpx.get(url + "api/arms", timeout=30).status_code == 200
+    finally:
+        for s in socks:
+            s.close()
+        _stop(proc)

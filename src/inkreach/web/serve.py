@@ -17,8 +17,35 @@ def _is_loopback(host):
         return False
 
 
+def _timed_protocol(header_timeout):
+    """uvicorn's HTTP protocol, closing a connection whose first request headers
+    are not complete within ``header_timeout`` seconds (idle and trickling
+    sockets would otherwise count against the connection cap for ever)."""
+    from uvicorn.protocols.http.auto import AutoHTTPProtocol
+
+    class _HeadTimed(AutoHTTPProtocol):
+        _head_timer = None
+
+        def connection_made(self, transport):
+            super().connection_made(transport)
+            self._head_timer = self.loop.call_later(header_timeout, self._head_late)
+
+        def _head_late(self):
+            self._head_timer = None
+            if getattr(self, "cycle", None) is None and not self.transport.is_closing():
+                self.transport.close()
+
+        def connection_lost(self, exc):
+            if self._head_timer is not None:
+                self._head_timer.cancel()
+                self._head_timer = None
+            super().connection_lost(exc)
+
+    return _HeadTimed
+
+
 def serve(host="127.0.0.1", port=8765, open_browser=False, allow_network=False, token=None,
-          max_connections=32, **app_options):
+          max_connections=32, header_timeout=10.0, **app_options):
     """Serve the web page until interrupted.
 
     Parameters
@@ -40,6 +67,9 @@ def serve(host="127.0.0.1", port=8765, open_browser=False, allow_network=False, 
     max_connections : int
         Connections served at once; more get 503 at once (uvicorn's
         ``limit_concurrency``), so idle sockets cannot pile up.
+    header_timeout : float
+        Seconds a new connection has to send its request headers; slower
+        ones are closed.
     **app_options
         Passed to :func:`inkreach.web.create_app`.
 
@@ -81,6 +111,7 @@ def serve(host="127.0.0.1", port=8765, open_browser=False, allow_network=False, 
     url = f"http://{shown}:{real_port}/"
     config = uvicorn.Config(app, log_level="warning", access_log=False, lifespan="on",
                             limit_concurrency=max(2, int(max_connections)),
+                            http=_timed_protocol(float(header_timeout)),
                             timeout_keep_alive=5, h11_max_incomplete_event_size=16_384)
     server = uvicorn.Server(config)
     print(f"inkreach web page at {url} (Ctrl+C to stop)", flush=True)
