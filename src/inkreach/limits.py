@@ -242,6 +242,11 @@ def _choice(name, v, choices):
 
 
 def _numbers(name, v, n=None, what="numbers"):
+    if isinstance(v, str) and len(v) < 200:
+        try:  # "0 60 148 105" or "0, 60, 148, 105"
+            v = [float(x) for x in v.replace(",", " ").split()]
+        except ValueError:
+            v = [v]
     if isinstance(v, (str, bytes)) or not hasattr(v, "__len__"):
         v = [v]
     if n is not None and len(v) != n:
@@ -400,11 +405,6 @@ def check_arm(arm):
 
 # ---------------------------------------------------------------------------
 # work estimates
-
-def _budget_line(needed, allowed, key, what):
-    return (f"would need about {_fmt_count(needed)} {what}, more than the budget of "
-            f"{_fmt_count(allowed)}", key)
-
 
 def check_style_work(style, options, pixels, pen_px, budget=DEFAULT_BUDGET, user=()):
     """Refuse tracing work above the budget, before it starts.
