@@ -80,8 +80,8 @@ def _add_plan_options(p):
                    help="paper rectangle in arm mm (lower-left corner, width, height) the "
                         "drawing must stay inside")
     p.add_argument("--margin", type=float, default=None, metavar="MM",
-                   help="margin inside the paper, or inside the usable region without one, "
-                        "mm (default 5; 0 to 1000: wider leaves no room on any desk arm)")
+                   help="margin inside the paper rectangle, mm (needs --paper; default 5; "
+                        "0 to 1000: wider leaves no room on any desk arm)")
     p.add_argument("--size", type=float, default=None, metavar="MM",
                    help="fixed length of the drawing's longer side, mm (default: as large "
                         "as the arm allows; 1 to 5000)")
