@@ -30,8 +30,10 @@ def test_plan_prints_the_figures_and_writes_the_files(emblem_png, tmp_path, caps
     names = set(os.listdir(out))
     # exactly the README's output files for the default arm (servo signals),
     # no temporary or stray file left beside them
+    # (and the manifest that records what the tool wrote)
     assert names == {"plan.json", "joints.csv", "preview.svg", "preview.png", "order.png",
-                     "simulated.png", "plan.h", "SAFETY.txt", "servo.csv"}
+                     "simulated.png", "plan.h", "SAFETY.txt", "servo.csv",
+                     ".inkreach-manifest.json"}
 
 
 def test_plan_json_format_is_for_scripts(emblem_png, tmp_path, capsys):

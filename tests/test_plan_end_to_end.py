@@ -144,7 +144,10 @@ def test_save_writes_every_file(tmp_path):
     written = p.save(tmp_path / "out")
     for name, path in written.items():
         assert (tmp_path / "out" / name).is_file()
-    assert not [f for f in (tmp_path / "out").iterdir() if f.name.startswith(".")]
+    # no temporary files; the one hidden file is the record of what was written
+    assert [f.name for f in (tmp_path / "out").iterdir()
+            if f.name.startswith(".")] == [".inkreach-manifest.json"]
+    assert not [f for f in tmp_path.iterdir() if f.name != "out"]
 
 
 def test_progress_reports_every_stage_in_order_then_done():

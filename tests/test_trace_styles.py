@@ -70,7 +70,7 @@ def test_unknown_option_lists_the_valid_ones():
 
 
 @pytest.mark.parametrize("style, option, value, words", [
-    ("hatch", "spacing", -2.0, "above 0"),
+    ("hatch", "spacing", -2.0, "at least 0.5"),
     ("stipple", "dots", 0, "at least 1"),
     ("contour", "levels", 0, "at least 1"),
     ("outline", "detail", "lots", "a number"),

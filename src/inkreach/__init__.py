@@ -13,6 +13,13 @@ import importlib
 import sys
 import types
 
+if sys.argv[:1] == ["-m"] or (sys.argv[:1]
+                             and sys.argv[0].endswith(("/inkreach", "\\inkreach"))):
+    # started as a command: Ctrl-C while the libraries load stops quietly
+    # (status 130); the command line takes Ctrl-C over once it runs
+    from ._startup import quiet_interrupts as _quiet
+    _quiet()
+
 from .errors import InkreachError
 
 __version__ = "0.1.0"

@@ -4,9 +4,6 @@ import argparse
 import json
 import os
 import sys
-import tempfile
-
-import numpy as np
 
 from .errors import InkreachError
 
@@ -41,9 +38,9 @@ def _number_list(n):
 def _value(text):
     """Parse a --set value: number, true/false, list, or text."""
     t = text.strip()
-    if t.lower() in ("true", "yes", "on"):
+    if t.lower() == "true":
         return True
-    if t.lower() in ("false", "no", "off"):
+    if t.lower() == "false":
         return False
     try:
         return int(t)
@@ -83,12 +80,13 @@ def _add_plan_options(p):
     p.add_argument("--paper", type=_number_list(4), metavar="'X Y W H'",
                    help="paper rectangle in arm mm (lower-left corner, width, height) the "
                         "drawing must stay inside")
-    p.add_argument("--margin", type=float, default=5.0, metavar="MM",
-                   help="margin inside the paper, mm (default 5)")
+    p.add_argument("--margin", type=float, default=None, metavar="MM",
+                   help="margin inside the paper rectangle, mm (needs --paper; default 5; "
+                        "0 to 1000: wider leaves no room on any desk arm)")
     p.add_argument("--size", type=float, default=None, metavar="MM",
                    help="fixed length of the drawing's longer side, mm (default: as large "
-                        "as the arm allows)")
-    p.add_argument("--prefer", choices=("largest", "isotropic"), default="largest",
+                        "as the arm allows; 1 to 5000)")
+    p.add_argument("--prefer", choices=("largest", "isotropic"), default=None,
                    help="where to put the drawing: as large as possible, or around the "
                         "arm's best-conditioned point (default largest)")
     p.add_argument("--upright", action="store_true",
@@ -97,14 +95,23 @@ def _add_plan_options(p):
                    help="also try tilting the drawing by up to 30 degrees or a quarter turn "
                         "and keep a tilt that draws larger; the figures then say how to "
                         "lay the paper")
-    p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
-                   help="how far a drawn line may stray from straight, mm (default 0.05)")
-    p.add_argument("--period", type=float, default=0.02, metavar="S",
-                   help="sample period of the joint stream, seconds (default 0.02)")
+    p.add_argument("--chord-tol", type=float, default=None, metavar="MM",
+                   help="how far a drawn line may stray from straight, mm (default 0.05; "
+                        "0.001 to 10: finer no motor follows, coarser lines visibly bend)")
+    p.add_argument("--period", type=float, default=None, metavar="S",
+                   help="sample period of the joint stream, seconds (default 0.02; 0.001 to "
+                        "1: faster few controllers keep up, slower cannot follow a stroke)")
     p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
-                   help="largest pen speed while drawing, mm/s (default: the motion stage's)")
-    p.add_argument("--signals", choices=("auto", "servo", "stepper", "both"), default="auto",
-                   help="motor signals to export (default: from the arm file)")
+                   help="largest pen speed while drawing, mm/s (default: the motion stage's; "
+                        "0.01 to 10000)")
+    p.add_argument("--signals", choices=("auto", "servo", "stepper", "both", "none"),
+                   default=None,
+                   help="motor signals to export, or none (default auto: from the arm file)")
+    p.add_argument("--budget", action="append", default=[], metavar="NAME=N",
+                   help="most work one plan may take: rows=N stream rows (default 300000), "
+                        "pixels=N pixel visits of tracing (default 12000000), dot_rounds=N "
+                        "stipple dots x iterations (default 2000000); a plan above it is "
+                        "refused before it starts")
     p.add_argument("--format", choices=("table", "json"), default="table",
                    help="how to print the figures (default table)")
     p.add_argument("--quiet", "-q", action="store_true", help="print nothing but errors")
@@ -164,7 +171,11 @@ def build_parser():
                        formatter_class=argparse.RawDescriptionHelpFormatter)
     s.add_argument("--port", type=int, default=8765, help="port (default 8765)")
     s.add_argument("--host", default="127.0.0.1",
-                   help="address to bind (default 127.0.0.1, this computer only)")
+                   help="address to bind (default 127.0.0.1, this computer only); any other "
+                        "needs --allow-network")
+    s.add_argument("--allow-network", action="store_true",
+                   help="allow a --host other computers can reach; the page then asks for "
+                        "the access token printed at start")
 
     c = sub.add_parser("calibrate", help="fit the real arm from measured dots",
                        description="Step 1 'sheet': write a calibration sheet and stream that "
@@ -202,8 +213,13 @@ def _version():
 
 def main(argv=None):
     """Run the command line; returns the exit status."""
-    parser = build_parser()
-    args = parser.parse_args(argv)
+    from ._startup import normal_interrupts
+    normal_interrupts()
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+    except KeyboardInterrupt:  # stopped while starting: nothing to say
+        return 130
     if args.command is None:
         parser.print_help()
         return 0
@@ -211,11 +227,19 @@ def main(argv=None):
     try:
         return _COMMANDS[args.command](args)
     except InkreachError as exc:
-        print(f"inkreach: error: {exc}", file=sys.stderr)
+        from .limits import BudgetError
+        hint = ""
+        if isinstance(exc, BudgetError):
+            hint = f" (or raise the budget: --budget {exc.key}={_round_budget(exc.needed)})"
+        print(f"inkreach: error: {exc}{hint}", file=sys.stderr)
         return 2
-    except KeyboardInterrupt:
-        print("inkreach: stopped; no files were written", file=sys.stderr)
+    except KeyboardInterrupt as exc:
+        print(f"inkreach: stopped; {_stopped_what(args, exc)}", file=sys.stderr)
         return 130
+    except (OSError, MemoryError) as exc:
+        from .cli_errors import environment_message
+        print(f"inkreach: error: {environment_message(exc, args)}", file=sys.stderr)
+        return 2
     except Exception as exc:  # a bug, not bad input: say so in one line
         if debug:
             raise
@@ -225,20 +249,61 @@ def main(argv=None):
         return 3
 
 
+#: Options that have their own flag: option name -> flag.
+_FLAGGED = {"paper": "--paper", "margin": "--margin", "size": "--size", "prefer": "--prefer",
+            "chord_tol": "--chord-tol", "period": "--period", "tip_speed": "--tip-speed",
+            "signals": "--signals", "rotations": "--upright", "tilt": "--tilt",
+            "budget": "--budget"}
+
+
+def _round_budget(n):
+    """A round budget figure a little above ``n``."""
+    n = max(int(n), 1)
+    step = 10 ** max(len(str(n)) - 2, 0)
+    return (n // step + 1) * step
+
+
+def _stopped_what(args, exc):
+    """What an interrupt left behind, truthfully."""
+    out = getattr(args, "out", None)
+    committed = getattr(exc, "committed", None)
+    if committed is True or getattr(args, "_written", False):
+        return f"the new files had already been written to {out}"
+    if committed is False:
+        return (f"{out} was left as it was" if os.path.isdir(out)
+                else "no files were written")
+    return "no files were written"
+
+
 def _plan_kwargs(args):
+    from .limits import budget_from_text, describe_text
+
     opts = {}
     for item in args.set:
         if "=" not in item:
-            raise InkreachError(f"--set {item!r} needs the form NAME=VALUE, e.g. --set detail=0.7")
+            raise InkreachError(f"--set {describe_text(item)} needs the form NAME=VALUE, "
+                                "e.g. --set detail=0.7")
         k, v = item.split("=", 1)
-        opts[k.strip().replace("-", "_")] = _value(v)
-    opts.update(paper=args.paper, margin=args.margin, size=args.size, prefer=args.prefer,
-                chord_tol=args.chord_tol, period=args.period, tip_speed=args.tip_speed,
-                signals=args.signals)
-    if args.upright:
-        opts["rotations"] = [0.0]
-    elif args.tilt:
-        opts["tilt"] = True
+        k = k.strip().replace("-", "_")
+        if k in opts:
+            raise InkreachError(f"--set {k} is given twice; give it once")
+        if k == "budget":
+            raise InkreachError("set the budget with --budget NAME=N, e.g. --budget rows=1000000")
+        opts[k] = _value(v)
+    flags = {"paper": args.paper, "margin": args.margin, "size": args.size,
+             "prefer": args.prefer, "chord_tol": args.chord_tol, "period": args.period,
+             "tip_speed": args.tip_speed, "signals": args.signals,
+             "rotations": [0.0] if args.upright else None,
+             "tilt": True if args.tilt and not args.upright else None}
+    for k, v in flags.items():
+        if v is None:
+            continue
+        if k in opts:
+            raise InkreachError(f"{k} is given both as {_FLAGGED[k]} and as --set {k}; "
+                                "give it once")
+        opts[k] = v
+    if args.budget:
+        opts["budget"] = budget_from_text(args.budget)
     return opts
 
 
@@ -259,6 +324,8 @@ def _cmd_plan(args, image=None, style=None, extra=None):
 
     _check_out_dir(args.out)
     from .vector.cli import print_warnings, text_kwargs
+    from .export.folder import check_replaceable
+    check_replaceable(args.out)  # refused now, not after the planning
     image = args.image if image is None else image
     style = args.style if style is None else style
     extra = text_kwargs(args) if hasattr(args, "text") else dict(extra or {})
@@ -267,6 +334,7 @@ def _cmd_plan(args, image=None, style=None, extra=None):
                       **extra)
     written = result.save(args.out)
     print_warnings(result.stats, sys.stderr)
+    args._written = True
     if args.format == "json":
         print(json.dumps({"stats": result.stats, "files": written}, indent=2))
     elif not args.quiet:
@@ -318,7 +386,7 @@ def _cmd_arm(args):
 
 def _cmd_serve(args):
     from .web import serve
-    serve(host=args.host, port=args.port)
+    serve(host=args.host, port=args.port, allow_network=args.allow_network)
     return 0
 
 

@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .arms import Arm, arm_to_toml, default_arm, load_arm, parse_arm, workspace_map
+from . import limits
 from .errors import InkreachError
 
 __all__ = ["Plan", "plan", "PLACE_OPTIONS", "MOTION_OPTIONS", "STAGES"]
@@ -20,7 +21,7 @@ PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest"
 MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
 #: Options of the planner itself.
 PLAN_OPTIONS = {"max_side": 1200, "max_pixels": 40_000_000, "joint_order": True,
-                "signals": "auto", "start": None, "fidelity": True}
+                "signals": "auto", "start": None, "fidelity": True, "budget": None}
 
 
 @dataclass(frozen=True, eq=False)
@@ -118,16 +119,17 @@ class Plan:
         return out
 
     def save(self, folder):
-        """Write every output file into ``folder`` (atomically; nothing half-written).
+        """Replace ``folder`` by one holding this plan's files (as a whole; see
+        :func:`inkreach.export.replace_folder`).
 
         Returns
         -------
         dict
             File name -> full path of what was written.
         """
-        from .export import write_files
+        from .export import replace_folder
         files = self.files()
-        write_files(folder, files)
+        replace_folder(folder, files)
         return {name: os.path.join(os.fspath(folder), name) for name in files}
 
 
@@ -165,18 +167,6 @@ def _split_options(options):
     motion = {k: options.pop(k, d) for k, d in MOTION_OPTIONS.items()}
     own = {k: options.pop(k, d) for k, d in PLAN_OPTIONS.items()}
     return place, motion, own, options
-
-
-def _positive(name, v, allow_none=True):
-    if v is None and allow_none:
-        return v
-    try:
-        f = float(v)
-    except (TypeError, ValueError):
-        raise InkreachError(f"option {name} must be a number, got {v!r}") from None
-    if not np.isfinite(f) or f <= 0:
-        raise InkreachError(f"option {name} must be a positive number, got {v!r}")
-    return f
 
 
 def plan(image=None, arm=None, style="outline", *, progress=None, **options):
@@ -228,7 +218,7 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     from .motion import check_stream, plan_motion
     from .place import place_drawing, provisional_scale
     from .route import merge_strokes, order_strokes, reorder_joint_space, travel_stats
-    from .signals import make_signals
+    from .signals.checks import checked_signals
     from .trace import load_image, trace
 
     def step(stage):
@@ -241,19 +231,22 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
                             "width_mm in the arm file instead")
     from .vector.source import VECTOR_OPTIONS
     vec_opts = {k: options.pop(k, d) for k, d in VECTOR_OPTIONS.items()}
+    user_set = frozenset(options)
     place_opts, motion_opts, own, style_opts = _split_options(options)
-    for k in ("chord_tol", "period", "tip_speed"):
-        motion_opts[k] = _positive(k, motion_opts[k])
-    place_opts["margin"] = float(place_opts["margin"]) if place_opts["margin"] is not None else 0.0
-    if place_opts["margin"] < 0 or not np.isfinite(place_opts["margin"]):
-        raise InkreachError("option margin must be zero or more mm")
-    place_opts["size"] = _positive("size", place_opts["size"])
+    # every value is checked against its stated range, and the work it
+    # implies against the budget, before that work starts (limits.py)
+    place_opts, motion_opts, own = limits.check_plan_options(place_opts, motion_opts, own,
+                                                             user_set)
     if not isinstance(place_opts["tilt"], (bool, np.bool_)):
         raise InkreachError("option tilt must be true or false")
-    max_side = int(_positive("max_side", own["max_side"], allow_none=False))
+    budget = own["budget"] if own["budget"] is not None else limits.DEFAULT_BUDGET
+    max_side = own["max_side"]
+    limits.check_style_options(style, style_opts, budget, user_set)
 
     step("arm")
     arm = resolve_arm(arm)
+    limits.check_arm(arm)
+    limits.check_dwell_rows(style, style_opts, arm, motion_opts["period"], budget, user_set)
     wmap = workspace_map(arm)
     if wmap.usable.sum() < 16:
         raise InkreachError("the arm's usable region is too small for any drawing; "
@@ -282,13 +275,14 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H),
                                   **{**place_opts, "size": place_opts["size"] or fixed})
     else:
-        pic = load_image(image, max_side=max_side,
-                         max_pixels=int(_positive("max_pixels", own["max_pixels"],
-                                                  allow_none=False)))
+        pic = load_image(image, max_side=max_side, max_pixels=own["max_pixels"])
         W, H = pic.original_size
         s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
                                                            ("paper", "margin", "size")})
         pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
+        limits.check_pen_px(pen_px, arm, (W, H), np.shape(pic.luminance))
+        limits.check_style_work(style, style_opts, int(np.prod(np.shape(pic.luminance)[:2])),
+                                pen_px, budget, user_set)
         step("trace")
         strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
         strokes_o = [pic.to_original(s) for s in strokes_w]
@@ -305,19 +299,28 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         # convex and usable, so its centroid is too)
         start_q = arm.ik(placement.hull.mean(0))
     start_xy = arm.fk(start_q)
+    limits.check_rows(strokes_mm, arm, start_q, motion_opts["period"], motion_opts["tip_speed"],
+                      budget, ordered=False, user=user_set)
     step("route")
     route = order_strokes(strokes_mm, start=start_xy)
     if own["joint_order"]:
         route = reorder_joint_space(route, arm, start_q=start_q,
                                     time_budget=joint_order_budget(len(route.strokes)))
+    limits.check_rows(route.strokes, arm, start_q, motion_opts["period"],
+                      motion_opts["tip_speed"], budget, user=user_set)
     step("motion")
     # a flat drawing (one straight line) has a two-point hull: no region
     region = placement.hull if len(placement.hull) >= 3 else None
     stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
                          **motion_opts)
     step("check")
-    report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
-    signals = make_signals(stream, arm, kind=own["signals"])
+    try:
+        report = check_stream(stream, arm, strokes=route.strokes,
+                              chord_tol=motion_opts["chord_tol"])
+    except InkreachError as exc:
+        raise InkreachError(limits.in_user_terms(str(exc), motion_opts["period"],
+                                                 motion_opts["chord_tol"])) from None
+    signals, signal_notes = checked_signals(stream, arm, own["signals"], motion_opts["chord_tol"])
     reached = _reached_xy(stream, arm, signals)
     travel = travel_stats(route.strokes, start=start_xy)
     stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
@@ -331,6 +334,7 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
             **vsrc.used_options(kind, vec_opts),
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
+    stats.update(signal_notes)
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
              image_size=(int(W), int(H)) if kind == "picture" else (float(W), float(H)),

@@ -113,6 +113,9 @@ def parse_arm(data, source="<arm>"):
             data = tomllib.loads(text)
         except tomllib.TOMLDecodeError as exc:
             _fail(source, f"is not valid TOML ({exc}); fix the syntax")
+        except RecursionError:
+            _fail(source, "nests arrays or tables far too deeply; an arm file is a few flat "
+                          "tables (see the example arm files)")
     if not isinstance(data, dict):
         _fail(source, "must be a TOML table")
     unknown = sorted(set(data) - _TOP_KEYS)
@@ -126,6 +129,9 @@ def parse_arm(data, source="<arm>"):
     name = data.get("name", os.path.splitext(os.path.basename(str(source)))[0] or "arm")
     if not isinstance(name, str):
         _fail(source, "name must be text in quotes")
+    if len(name) > 100 or any(ord(c) < 32 or ord(c) == 127 for c in name):
+        _fail(source, "name must be one line of at most 100 characters, without tabs or "
+                      "control characters")
     if "geometry" not in data:
         _fail(source, "is missing the [geometry] table; add it (see the example arm files)")
     if "limits" not in data:
@@ -315,7 +321,9 @@ def arm_to_toml(arm):
     """
     def fmt(v):
         if isinstance(v, str):
-            return '"' + v.replace("\\", "\\\\").replace('"', '\\"') + '"'
+            # a TOML basic string: backslash, quote and control characters escaped
+            return '"' + "".join(c if c not in '"\\' and 31 < ord(c) != 127
+                                 else f"\\u{ord(c):04x}" for c in v) + '"'
         if isinstance(v, (tuple, list, np.ndarray)):
             return "[" + ", ".join(fmt(x) for x in v) + "]"
         if isinstance(v, bool):

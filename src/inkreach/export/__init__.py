@@ -4,6 +4,7 @@ from ._colour import conditioning_ramp, order_ramp
 from ._scene import likeness_text
 from .files import atomic_write, png_bytes, write_files
 from .firmware import firmware_header
+from .folder import MANIFEST, WriteInterrupted, replace_folder
 from .picture import arm_map_png, preview_png
 from .planfile import PLAN_FORMAT, plan_json
 from .safety import SAFETY_TEXT
@@ -18,4 +19,5 @@ __all__ = [
     "simulated_png", "pen_down_paths", "auto_px_per_mm", "encode_srgb8", "MARGIN_MM",
     "stroke_coverage", "preview_svg", "preview_png", "arm_map_png",
     "order_ramp", "conditioning_ramp", "likeness_text",
+    "replace_folder", "WriteInterrupted", "MANIFEST",
 ]

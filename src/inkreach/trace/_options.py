@@ -43,8 +43,10 @@ class _Number:
             if ok and self.hi is not None:
                 ok = v <= self.hi
         if not ok:
+            from ..limits import describe_number
             raise InkreachError(
-                f"{style} option {name}={value!r} is out of range; use {self.describe()}")
+                f"{style} option {name}={describe_number(value)} is out of range; use "
+                f"{self.describe()}")
         return int(v) if self.integer else v
 
 
@@ -54,8 +56,9 @@ class _Choice:
 
     def __call__(self, style, name, value):
         if value not in self.choices:
+            from ..limits import describe_text
             raise InkreachError(
-                f"{style} option {name}={value!r} is not valid; use one of "
+                f"{style} option {name}={describe_text(value)} is not valid; use one of "
                 + ", ".join(self.choices))
         return value
 
@@ -98,7 +101,8 @@ OPTIONS = {
     "hatch": {
         "pen_px": _PEN,
         "spacing": (None, "fixed gap between hatch lines in pixels (None: set per tone so the "
-                          "ink matches the picture)", _Number(0.0, 1000.0, lo_open=True, none_ok=True)),
+                          "ink matches the picture; at least 0.5: closer lines cannot be told apart)",
+                    _Number(0.5, 1000.0, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
         "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
         "levels": (32, "how many tone steps are told apart (32 matches the line lattice's "

@@ -57,7 +57,16 @@ def style_options(style):
     6
     """
     _check_style(style)
-    return {k: (v[0], v[1]) for k, v in _options.OPTIONS[style].items()}
+    return {k: (v[0], _with_range(v[1], v[2])) for k, v in _options.OPTIONS[style].items()}
+
+
+def _with_range(help_, check):
+    """The help text with the valid values appended (``range: ...``)."""
+    describe = getattr(check, "describe", None)
+    if describe is not None:
+        return f"{help_}; range: {describe()}"
+    choices = getattr(check, "choices", None)
+    return f"{help_}; one of {', '.join(choices)}" if choices else help_
 
 
 def trace(lum, style="outline", **options):

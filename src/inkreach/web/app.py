@@ -84,13 +84,19 @@ def _style_table():
 
 
 _COMMON = [
-    ("size", "length of the drawing's longer side in mm (empty: as large as fits)"),
-    ("margin", "keep this many mm clear of the usable region's edge"),
+    ("size", "length of the drawing's longer side in mm, 1 to 5000 (empty: as large as fits)"),
+    ("paper", "paper rectangle in arm mm: x, y, width, height (empty: no paper, the whole "
+              "usable region)"),
+    ("margin", "keep this many mm clear inside the paper's edge, 0 to 1000 (needs paper)"),
     ("prefer", "'largest' drawing, or 'isotropic' for the best-conditioned spot"),
-    ("tip_speed", "pen speed while drawing, mm/s (empty: as fast as the motors allow)"),
-    ("chord_tol", "largest gap between the drawn chord and the true line, mm"),
+    ("tip_speed", "pen speed while drawing, mm/s, 0.01 to 10000 (empty: as fast as the motors "
+                  "allow)"),
+    ("chord_tol", "largest gap between the drawn chord and the true line, mm, 0.005 to 10 "
+                  "(finer no motor follows)"),
     ("tilt", "'true' also tries tilted drawings, which may draw larger; then lay the "
              "paper turned as the figures say"),
+    ("signals", "motor signals to make: auto (from the arm file), servo, stepper, both or "
+                "none"),
 ]
 
 
@@ -99,7 +105,7 @@ def _common_options():
 
     from ..trace import option_label
 
-    defaults = {**PLACE_OPTIONS, **MOTION_OPTIONS}
+    defaults = {**PLACE_OPTIONS, **MOTION_OPTIONS, "signals": "auto"}
     return [{"name": k, "label": option_label(k)[0], "unit": option_label(k)[1],
              "default": _jsonable(defaults.get(k)), "help": h} for k, h in _COMMON]
 
@@ -130,14 +136,17 @@ def _sniff_picture(data, max_pixels):
     try:
         with _pil_limit(max_pixels):
             im = Image.open(io.BytesIO(data))
+    except Image.DecompressionBombError:
+        raise _ApiError(413, f"the picture is far too large; shrink it below "
+                             f"{max_pixels // 1_000_000} megapixels") from None
     except (UnidentifiedImageError, Image.DecompressionBombError, OSError, ValueError,
             SyntaxError):
         raise _ApiError(415, "the upload is not a picture this page can read; "
                              "send a PNG, JPEG, GIF, BMP, TIFF or WebP file") from None
     w, h = im.size
     if w * h > max_pixels:
-        raise _ApiError(413, f"the picture is {w}x{h} pixels, more than {max_pixels:,} "
-                             "allowed; shrink it first")
+        raise _ApiError(413, f"the picture is far too large ({w}x{h} pixels); shrink it "
+                             f"below {max_pixels // 1_000_000} megapixels")
     try:
         im.load()
     except (OSError, ValueError, SyntaxError):
@@ -189,8 +198,24 @@ class _Progress:
             return self._d.get(token)
 
 
-async def _read_body(request, limit):
-    """The whole request body, refusing more than ``limit`` bytes as it arrives."""
+async def _read_body(request, limit, timeout=None):
+    """The whole request body, refusing more than ``limit`` bytes as it arrives.
+
+    A body not complete within ``timeout`` seconds gets 408 (a stalled or
+    very slow upload must not hold its memory for ever).
+    """
+    if timeout is None:
+        return await _read_body_now(request, limit)
+    try:
+        async with asyncio.timeout(timeout):
+            return await _read_body_now(request, limit)
+    except TimeoutError:
+        raise _ApiError(408, f"the upload took longer than {timeout:g} s; send it again "
+                             "over a faster connection", headers={"Connection": "close"}) \
+            from None
+
+
+async def _read_body_now(request, limit):
     declared = request.headers.get("content-length")
     n_declared = None
     if declared is not None:
@@ -248,9 +273,30 @@ async def _field_text(value, what, limit):
     return value
 
 
+class _Abandoned(Exception):
+    """The client went away; the plan stops at its next stage."""
+
+
+async def _unless_abandoned(request, fut, cancel, poll=0.25):
+    """Wait for ``fut``; if the client disconnects first, tell the work to stop."""
+    while True:
+        done, _ = await asyncio.wait({fut}, timeout=poll)
+        if done:
+            return fut.result()
+        gone = request.scope.get("inkreach.gone")
+        if (gone is not None and gone.is_set()) or await request.is_disconnected():
+            cancel.set()
+            try:
+                return await fut
+            except _Abandoned:
+                raise
+            except Exception:
+                raise _Abandoned() from None
+
+
 def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000, *,
                planner=None, workers=2, queue_limit=4, keep=20, preview_points=8000,
-               allowed_hosts=None):
+               allowed_hosts=None, token=None, body_timeout=60.0, max_uploads=4):
     """Build the web application: the page and its JSON API.
 
     Parameters
@@ -276,6 +322,15 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
     allowed_hosts : sequence of str, optional
         Host names the server answers to (others get 400), a guard against
         DNS rebinding; no check when None.
+    token : str, optional
+        Access token every API request must carry (cookie or header); see
+        :class:`inkreach.web.guards.GuardMiddleware`. POSTs from another
+        origin are refused (403) either way.
+    body_timeout : float
+        Seconds allowed to read one request body; slower uploads get 408.
+    max_uploads : int
+        Request bodies read at once; more wait (up to ``body_timeout``), then
+        get 503. With ``max_upload_bytes`` this bounds the memory uploads hold.
 
     Returns
     -------
@@ -301,6 +356,10 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
                   openapi_url=None)
     app.state.store = plans
     app.state.shutdown = shutdown
+
+    from .guards import GuardMiddleware
+    app.add_middleware(GuardMiddleware, token=token)
+    uploads = asyncio.Semaphore(max(1, int(max_uploads)))
 
     if allowed_hosts is not None:
         from starlette.middleware.trustedhost import TrustedHostMiddleware
@@ -335,6 +394,21 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
     @app.exception_handler(RequestValidationError)
     async def _validation_error(request, exc):
         return _error(400, "the request is not valid; check its fields")
+
+    @app.exception_handler(OSError)
+    async def _environment(request, exc):
+        from ..cli_errors import environment_message
+        _log.warning("environment error: %s", exc)
+        return _error(503, environment_message(exc))
+
+    @app.exception_handler(MemoryError)
+    async def _memory(request, exc):
+        from ..cli_errors import environment_message
+        return _error(503, environment_message(exc))
+
+    @app.exception_handler(_Abandoned)
+    async def _abandoned(request, exc):
+        return _error(400, "the request was abandoned")
 
     @app.exception_handler(Exception)
     async def _unexpected(request, exc):
@@ -396,11 +470,20 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         if not ctype.lower().startswith("multipart/form-data"):
             raise _ApiError(415, "send the picture as multipart/form-data with a field "
                                  "named image")
-        token = request.headers.get("x-progress-id")
-        if token is not None and not _PROGRESS_ID.match(token):
-            token = None
-        body = await _read_body(request, max_upload_bytes)
+        ptoken = request.headers.get("x-progress-id")
+        if ptoken is not None and not _PROGRESS_ID.match(ptoken):
+            ptoken = None
+        try:
+            await asyncio.wait_for(uploads.acquire(), timeout=body_timeout)
+        except TimeoutError:
+            raise _ApiError(503, "the server is busy receiving other uploads; try again in a "
+                                 "few seconds", headers={"Retry-After": "5"}) from None
+        try:
+            body = await _read_body(request, max_upload_bytes, body_timeout)
+        finally:
+            uploads.release()
         form = await _parse_form(request, body)
+        del body
         try:
             image = form.get("image")
             lines = {k: form.get(k) for k in ("text", "caption", "font", "align")
@@ -433,20 +516,27 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         if not slots.acquire(blocking=False):
             raise _ApiError(503, "the server is busy with other plans; try again in a "
                                  "few seconds", headers={"Retry-After": "5"})
+        cancel = threading.Event()
         try:
-            progress.set(token, "queued")
+            progress.set(ptoken, "queued")
             loop = asyncio.get_running_loop()
-            result = await loop.run_in_executor(
-                executor, _compute, data, arm_text, style.strip(), options, token)
+            fut = loop.run_in_executor(
+                executor, _compute, data, arm_text, style.strip(), options, ptoken, cancel)
+            del data
+            result = await _unless_abandoned(request, fut, cancel)
         finally:
             slots.release()
         return JSONResponse(result)
 
-    def _compute(data, arm_text, style, options, token):
+    def _compute(data, arm_text, style, options, token, cancel):
+        if cancel.is_set():
+            raise _Abandoned()
         im = data if data is None or looks_like_svg(data) else _sniff_picture(data, max_pixels)
         arm = _resolve_arm(arm_text)
 
         def report(stage, done=0, total=1):
+            if cancel.is_set():
+                raise _Abandoned()
             progress.set(token, stage, done, total)
 
         p = run_plan(im, arm=arm, style=style, progress=report, **options)

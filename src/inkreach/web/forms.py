@@ -15,7 +15,12 @@ _REFUSED = {
     "pen_px": "pen_px follows from the arm's pen width; change [pen] width_mm in the arm file",
     "progress": "progress is not an option",
     "start": "start cannot be set from the web page; put a home pose in the arm file",
+    "budget": "the work budget is fixed on the web page; use the command line's --budget "
+              "for larger plans",
+    "max_pixels": "the largest picture is fixed on the web page; shrink the picture first",
 }
+#: Options whose value is a word, passed on as typed ("none" is a word here).
+_WORDS = frozenset({"signals", "prefer", "mode", "threshold"})
 #: Bounds that keep one request from tying the machine up for long.
 _BOUNDS = {
     "max_side": (8, 2400),
@@ -43,16 +48,16 @@ def parse_value(text):
     --------
     >>> parse_value("12"), parse_value("0.5"), parse_value("none"), parse_value("otsu")
     (12, 0.5, None, 'otsu')
-    >>> parse_value("0, 0, 120, 80"), parse_value("true")
-    ([0, 0, 120, 80], True)
+    >>> parse_value("0, 0, 120, 80"), parse_value("true"), parse_value("yes")
+    ([0, 0, 120, 80], True, 'yes')
     """
     s = text.strip()
     low = s.lower()
     if low in ("none", "auto-none"):
         return None
-    if low in ("true", "yes", "on"):
+    if low == "true":
         return True
-    if low in ("false", "no", "off"):
+    if low == "false":
         return False
     if low.lstrip("+-") in ("nan", "inf", "infinity"):
         return float(low)
@@ -106,14 +111,16 @@ def parse_options(fields):
             raise InkreachError(f"option {name} is too long; give a number or a short word")
         if not text.strip():
             continue
-        v = parse_value(text)
+        v = text.strip() if name in _WORDS else parse_value(text)
         if isinstance(v, float) and not math.isfinite(v):
             raise InkreachError(f"option {name} must be a finite number")
         lo, hi = _BOUNDS.get(name, (None, None))
         if isinstance(v, (int, float)) and not isinstance(v, bool):
             if lo is not None and v < lo:
-                raise InkreachError(f"option {name}={v:g} is too small here; use at least {lo:g}")
+                raise InkreachError(f"option {name}={text.strip()[:24]} is too small here; "
+                                    f"use at least {lo:g}")
             if hi is not None and v > hi:
-                raise InkreachError(f"option {name}={v:g} is too large here; use at most {hi:g}")
+                raise InkreachError(f"option {name}={text.strip()[:24]} is far too large "
+                                    f"here; use at most {hi:g}")
         out[name] = v
     return out

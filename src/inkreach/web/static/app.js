@@ -19,8 +19,22 @@
   }
   function clearError() { $("error").hidden = true; $("error").textContent = ""; }
 
+  // A page served to the network asks for the access token printed where it
+  // was started, once, and keeps it in a same-site cookie.
+  function askToken() {
+    const t = window.prompt("This page needs its access token (printed where 'inkreach serve' was started):");
+    if (!t) return false;
+    document.cookie = "inkreach_token=" + encodeURIComponent(t.trim()) + "; path=/; SameSite=Strict";
+    return true;
+  }
+  async function send(url, init) {
+    let r = await fetch(url, init);
+    if (r.status === 401 && askToken()) r = await fetch(url, init);
+    return r;
+  }
+
   async function getJSON(url) {
-    const r = await fetch(url, { headers: { Accept: "application/json" } });
+    const r = await send(url, { headers: { Accept: "application/json" } });
     const body = await r.json().catch(() => ({}));
     if (!r.ok) throw new Error(body.error || ("the server answered " + r.status));
     return body;
@@ -189,7 +203,7 @@
       }
     })();
     try {
-      const r = await fetch("/api/plans", { method: "POST", body: fd, headers: { "X-Progress-Id": id } });
+      const r = await send("/api/plans", { method: "POST", body: fd, headers: { "X-Progress-Id": id } });
       const body = await r.json().catch(() => ({ error: "the server answered " + r.status + " without a readable message" }));
       if (!r.ok) throw new Error(body.error || ("the server answered " + r.status));
       state.result = body;
