@@ -17,7 +17,12 @@ _LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
 _NORMAL_SHARE = 0.5              # share of the acceleration budget spent turning corners
 _PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
 _CORNER_SHARE = 0.4              # share of chord_tol a corner may be cut between two rows
-_STOP_BELOW = 0.25               # stop at a corner that would need less than this x tip speed
+_STOP_BELOW = 0.25               # put a row on a corner that would need less than this x tip speed
+#: Default pen-tip speed limit while drawing, mm/s. A bound we chose for
+#: fibre-tip and gel pens on light hobby arms, well under the ~380 mm/s of
+#: classic pen plotters (HP 7475A, from memory): common practice for a
+#: clean, even line.
+TIP_SPEED = 80.0
 _SLOWDOWN = 0.85
 _MAX_REPAIRS = 60
 
@@ -124,6 +129,12 @@ class _Path:
         self.first = np.concatenate([[0], np.cumsum(sizes)[:-1]])
         self.last = self.first + sizes - 1
         self.vpiece = np.repeat(np.arange(len(pieces)), sizes)
+        # A join: piece p and p + 1 are consecutive parts of one stroke, cut
+        # at a sharp vertex so that a row lands exactly on it.
+        self.join = np.zeros(len(pieces), bool)
+        if len(pieces) > 1:
+            self.join[:-1] = ((self.kind[:-1] == _STROKE) & (self.kind[1:] == _STROKE)
+                              & (self.stroke[:-1] == self.stroke[1:]))
 
 
 def _geometry(path, arm, margin, tip_speed):
@@ -203,28 +214,46 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
 
 
 def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
-    """Squared speed cap of every vertex (0 at the ends of every piece)."""
+    """Squared speed cap of every vertex.
+
+    Zero at the ends of every piece except at joins (see :class:`_Path`),
+    where a row lands exactly on the vertex: there the only rule is that the
+    change of joint direction fits in one period within the share
+    ``_NORMAL_SHARE`` of the acceleration limit. Inside a piece the corner
+    rule of :func:`_corner_speed` applies too; where it asks for a stop
+    (a negative speed) the cap is zero.
+    """
     K = len(path.Q)
     cap = np.zeros(K)
+    an = _NORMAL_SHARE * margin * arm.limits.max_accel
+
+    def kink(i_in, i_out):
+        fi = np.minimum(f[i_in], f[i_out])
+        vs = np.minimum(g["vseg"][i_in] * f[i_in], g["vseg"][i_out] * f[i_out])
+        sbar = 0.5 * (g["length"][i_in] + g["length"][i_out])
+        jump = np.abs(g["qp"][i_out] - g["qp"][i_in]).max(axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
+                          np.inf)
+        return np.minimum(vs, vj * fi)
+
     inner = np.zeros(K, bool)
     inner[1:-1] = g["same"][:-1] & g["same"][1:]
     i = np.flatnonzero(inner)
     if i.size:
-        fi = np.minimum(f[i - 1], f[i])
-        vs = np.minimum(g["vseg"][i - 1] * f[i - 1], g["vseg"][i] * f[i])
-        sbar = 0.5 * (g["length"][i - 1] + g["length"][i])
-        jump = np.abs(g["qp"][i] - g["qp"][i - 1]).max(axis=1)
-        an = _NORMAL_SHARE * margin * arm.limits.max_accel
-        with np.errstate(divide="ignore", invalid="ignore"):
-            vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
-                          np.inf)
-        vs = np.minimum(vs, vj * fi)
+        vs = kink(i - 1, i)
         dr = g["drawing"][i - 1] & g["drawing"][i]
         if np.any(dr):
             at = np.maximum(g["acc"][i - 1] * f[i - 1] ** 2, g["acc"][i] * f[i] ** 2)
             vc = _corner_speed(g["dp"][i - 1], g["dp"][i], at, period, chord_tol)
             vs = np.where(dr, np.minimum(vs, vc), vs)
-        cap[i] = vs
+        cap[i] = np.maximum(vs, 0.0)
+    p = np.flatnonzero(path.join)
+    if p.size:
+        L, R = path.last[p], path.first[p + 1]
+        vs = np.maximum(kink(L - 1, R), 0.0)
+        cap[L] = vs
+        cap[R] = vs
     return cap * cap
 
 
@@ -285,8 +314,33 @@ def _slow_down(f, tv, tau, rows, period):
     return True
 
 
+def _servo_frame_check(arm, period):
+    """Refuse a period that is not a whole number of the arm's servo frames."""
+    servo = (arm.hardware or {}).get("servo") if hasattr(arm, "hardware") else None
+    if not servo:
+        return
+    hz = float(servo.get("frame_hz", 50.0))
+    frames = period * hz
+    if abs(frames - round(frames)) > 1e-6 or round(frames) < 1:
+        f = 1.0 / hz
+        raise InkreachError(
+            f"period {period:g} s is not a whole number of servo frames ({f * 1000:g} ms at "
+            f"{hz:g} Hz); use {f:g}, {2 * f:g} or {3 * f:g} s")
+
+
+def _tip_violations(q, pen, stroke, period, arm, tip_speed):
+    """First rows of pen-down row pairs whose finite-difference tip speed is too high."""
+    if len(q) < 2:
+        return np.zeros(0, int)
+    x = arm.fk(q)
+    both = (pen[1:] == 1) & (pen[:-1] == 1) & (stroke[1:] == stroke[:-1])
+    sp = np.hypot(*np.diff(x, axis=0).T) / period
+    k = np.flatnonzero(both & (sp > tip_speed * (1 - 1e-9)))
+    return np.unique(np.concatenate([k, k + 1]))
+
+
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
-                tip_speed=None, region=None, margin=0.97):
+                tip_speed=None, region=None, margin=1.0):
     """Plan the joint stream that draws ordered strokes.
 
     Pen-down moves follow the strokes: each is subdivided (:func:`subdivide`)
@@ -294,16 +348,23 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     the straight segments. Pen-up moves are straight in joint space where
     every posture on the way is usable (inside the limits, assembling, at
     or above the conditioning floor), otherwise straight in Cartesian space.
-    Every move, dwell and stroke starts and ends at rest; each is timed by a
-    forward-backward pass over its samples under per-joint speed and
-    acceleration limits (``margin`` times the arm's), a tip-speed limit
-    while drawing, and corner-speed limits (a sharp corner may not be cut
-    by more than half of ``chord_tol`` between two rows, and a change of
-    joint direction must fit in one period at the acceleration limit). Each
-    piece is stretched to a whole number of periods and sampled, so a
-    stroke's first and last points are exact rows. Stretches whose sampled
-    finite differences still break a limit are slowed down and re-timed.
-    The finished stream is checked by :func:`check_stream`.
+    Every move, dwell and stroke starts and ends at rest. Each stroke is
+    timed as one path by the phase-plane forward-backward pass (exact
+    time-optimal on the joint-linear pieces between vertices) under
+    per-joint speed and acceleration limits (``margin`` times the arm's,
+    1 by default: no blanket margin), the tip-speed limit and
+    discrete-time corner limits: a corner may not be cut by more than
+    ``0.4 chord_tol`` between two rows, and a change of joint direction
+    must fit in one period within half the acceleration limit. A sharp
+    vertex, where the corner rule would force a near stop, gets a row
+    exactly on it instead and is passed at the speed the joint direction
+    change allows, without stopping: the stroke's time between such
+    vertices is stretched to a whole number of periods. Rows whose finite
+    differences still break a limit (joint speed, acceleration, or the tip
+    speed from forward kinematics) are slowed down locally and re-timed.
+    The stream is executed by holding each row for one period (zero-order
+    hold); pen dwells are ``ceil(lift_s / period)`` rows. The finished
+    stream is checked by :func:`check_stream`, tip speed included.
 
     Parameters
     ----------
@@ -319,13 +380,14 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     period : float
         Sample period, seconds.
     tip_speed : float, optional
-        Largest pen speed while drawing, mm/s (default 80).
+        Largest pen speed while drawing, mm/s (default :data:`TIP_SPEED`,
+        80), applied to every pen-down row pair.
     region : array_like, shape (M, 2), optional
         A convex polygon (mm) where straight pen-up moves are known to be
         safe, e.g. the hull of the placed drawing.
     margin : float
         Fraction of the arm's speed and acceleration limits used when
-        planning, in (0, 1].
+        planning, in (0, 1] (default 1).
 
     Returns
     -------
@@ -364,7 +426,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         raise InkreachError(f"chord_tol must be greater than zero, got {chord_tol!r}")
     if not 0 < margin <= 1:
         raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 0.97 is usual")
-    tip_speed = 80.0 if tip_speed is None else float(tip_speed)
+    _servo_frame_check(arm, period)
+    tip_speed = TIP_SPEED if tip_speed is None else float(tip_speed)
     if not tip_speed > 0:
         raise InkreachError(f"tip_speed must be greater than zero, got {tip_speed!r}")
     if region is not None:
@@ -454,6 +517,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
                                              n_dwell)
         rows = _stream_violations(q, period, arm)
+        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
@@ -462,6 +526,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
-                         period=period, stroke=stroke)
-    check_stream(stream, arm, strokes=S, chord_tol=chord_tol)
+                         period=period, stroke=stroke, execution="hold",
+                         tip_speed=tip_speed)
+    check_stream(stream, arm, strokes=S, chord_tol=chord_tol, tip_speed=tip_speed)
     return stream
