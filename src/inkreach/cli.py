@@ -95,7 +95,7 @@ def _add_plan_options(p):
     p.add_argument("--period", type=float, default=0.02, metavar="S",
                    help="sample period of the joint stream, seconds (default 0.02)")
     p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
-                   help="largest pen speed while drawing, mm/s (default: the motion stage's)")
+                   help="largest pen speed while drawing, mm/s (default 80)")
     p.add_argument("--signals", choices=("auto", "servo", "stepper", "both"), default="auto",
                    help="motor signals to export (default: from the arm file)")
     p.add_argument("--format", choices=("table", "json"), default="table",

@@ -17,7 +17,7 @@ STAGES = ("arm", "load", "trace", "merge", "place", "route", "motion", "check", 
 PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
                  "rotations": None}
 #: Options of the motion stage, with their defaults.
-MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
+MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": 80.0}  # tip: motion.plan.TIP_SPEED
 #: Options of the planner itself.
 PLAN_OPTIONS = {"max_side": 1200, "max_pixels": 40_000_000, "joint_order": True,
                 "signals": "auto", "start": None, "fidelity": True}
@@ -268,7 +268,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
     stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
                          **motion_opts)
     step("check")
-    report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"])
+    report = check_stream(stream, arm, strokes=route.strokes, chord_tol=motion_opts["chord_tol"],
+                          tip_speed=stream.tip_speed)
     signals = make_signals(stream, arm, kind=own["signals"])
     reached = _reached_xy(stream, arm, signals)
     travel = travel_stats(route.strokes, start=start_xy)
@@ -278,7 +279,8 @@ def plan(image, arm=None, style="outline", *, progress=None, **options):
         # steps or whole microseconds causes, by forward kinematics
         stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
                                             5)
-    used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
+    used = {**style_opts, **place_opts, **motion_opts, "tip_speed": float(stream.tip_speed),
+            "execution": stream.execution, "max_side": max_side,
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,

@@ -4,7 +4,7 @@ import numpy as np
 
 from ..errors import InkreachError
 from ..place._geometry import _ccw, _inside_convex
-from .check import check_stream, _stream_violations
+from .check import check_stream, _distance_to_strokes, _stream_violations
 from .stream import JointStream
 from .subdivide import _drop_repeats, _subdivide_many
 from .timing import _forward_backward, _position_in_segment, _segment_profiles
@@ -23,6 +23,8 @@ _STOP_BELOW = 0.25               # put a row on a corner that would need less th
 #: classic pen plotters (HP 7475A, from memory): common practice for a
 #: clean, even line.
 TIP_SPEED = 80.0
+_CUT_ANGLE = np.deg2rad(20.0)    # only vertices turning more than this get a row of their own
+_ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.85
 _MAX_REPAIRS = 60
 
@@ -193,7 +195,7 @@ def _corner_speed(a, b, acc, period, chord_tol):
         c = np.clip(np.einsum("ij,ij->i", a, b) / (la * lb), -1.0, 1.0)
         th = np.arccos(c)
         sbar = 0.5 * (la + lb)
-        vc = np.minimum(2 * tol / (period * np.sin(th / 2)) - acc * period,
+        vc = np.minimum(2 * tol / (period * np.sin(th / 2)) - _ACC_SHARE * acc * period,
                         np.sqrt(8 * tol * sbar / th) / period)
     return np.where(th > 1e-12, vc, np.inf)
 
@@ -210,7 +212,9 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
         acc = margin * arm.limits.max_accel / qpm
     at = np.maximum(acc[:-1], acc[1:])
     vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
-    return np.flatnonzero(vc < _STOP_BELOW * tip_speed) + 1
+    c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
+    sharp = c < np.cos(_CUT_ANGLE)
+    return np.flatnonzero((vc < _STOP_BELOW * tip_speed) & sharp) + 1
 
 
 def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
@@ -337,6 +341,24 @@ def _tip_violations(q, pen, stroke, period, arm, tip_speed):
     sp = np.hypot(*np.diff(x, axis=0).T) / period
     k = np.flatnonzero(both & (sp > tip_speed * (1 - 1e-9)))
     return np.unique(np.concatenate([k, k + 1]))
+
+
+def _chord_violations(q, pen, stroke, arm, strokes, chord_tol):
+    """Rows whose pen, or whose joint-space midpoint with the next row, strays too far.
+
+    The same rule as :func:`check_stream`, so the corner rule may be
+    optimistic: rows it lets cut a corner too deeply are slowed down.
+    """
+    kd = np.flatnonzero(pen == 1)
+    if kd.size == 0:
+        return np.zeros(0, int)
+    pair = kd[:-1][(np.diff(kd) == 1) & (stroke[kd[1:]] == stroke[kd[:-1]])]
+    pts = np.concatenate([arm.fk(q[kd]), arm.fk(0.5 * (q[pair] + q[pair + 1]))])
+    lab = np.concatenate([stroke[kd], stroke[pair]])
+    row = np.concatenate([kd, pair])
+    # Headroom of 1 % of the tolerance for rounding the angles when written.
+    bad = row[_distance_to_strokes(pts, lab, strokes, chord_tol) > 0.99 * chord_tol]
+    return np.unique(np.concatenate([bad, bad + 1]))
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
@@ -518,6 +540,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                                              n_dwell)
         rows = _stream_violations(q, period, arm)
         rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+        rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, S, chord_tol))
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
