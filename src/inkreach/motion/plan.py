@@ -17,13 +17,14 @@ _LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
 _NORMAL_SHARE = 0.5              # share of the acceleration budget spent turning corners
 _PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
 _CORNER_SHARE = 0.4              # share of chord_tol a corner may be cut between two rows
-_STOP_BELOW = 0.25               # put a row on a corner that would need less than this x tip speed
+_STOP_BELOW = 0.5                # put a row on a corner passed slower than this x the on-row speed
 #: Default pen-tip speed limit while drawing, mm/s. A bound we chose for
 #: fibre-tip and gel pens on light hobby arms, well under the ~380 mm/s of
 #: classic pen plotters (HP 7475A, from memory): common practice for a
 #: clean, even line.
 TIP_SPEED = 80.0
-_CUT_ANGLE = np.deg2rad(20.0)    # only vertices turning more than this get a row of their own
+_CUT_GAP = 1.0                   # least distance between cuts, in periods at the tip speed
+_CUT_ANGLE = np.deg2rad(5.0)     # only vertices turning more than this get a row of their own
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.85
 _MAX_REPAIRS = 60
@@ -201,20 +202,42 @@ def _corner_speed(a, b, acc, period, chord_tol):
 
 
 def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
-    """Interior vertices of a subdivided stroke where the pen should stop."""
+    """Interior vertices of a subdivided stroke that get a row of their own.
+
+    A vertex is cut (a row is put exactly on it) where passing it between
+    two rows would have to be much slower, under the corner rule, than
+    passing it on a row, where only the change of joint direction within
+    one period limits the speed; and where it turns by more than
+    ``_CUT_ANGLE``, so smooth curves are not cut into many short pieces.
+    """
     if len(P) < 3:
         return np.zeros(0, int)
     dp = np.diff(P, axis=0)
     dq = np.diff(Q, axis=0)
     L = np.hypot(dp[:, 0], dp[:, 1])
-    qpm = np.abs(dq / L[:, None]).max(axis=1)
+    qp = dq / L[:, None]
+    qpm = np.abs(qp).max(axis=1)
     with np.errstate(divide="ignore"):
         acc = margin * arm.limits.max_accel / qpm
     at = np.maximum(acc[:-1], acc[1:])
     vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
+    jump = np.abs(qp[1:] - qp[:-1]).max(axis=1)
+    with np.errstate(divide="ignore"):
+        vk = np.minimum(_NORMAL_SHARE * margin * arm.limits.max_accel * period / jump, tip_speed)
     c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
     sharp = c < np.cos(_CUT_ANGLE)
-    return np.flatnonzero((vc < _STOP_BELOW * tip_speed) & sharp) + 1
+    cuts = np.flatnonzero((vc < _STOP_BELOW * vk) & sharp) + 1
+    if cuts.size < 2:
+        return cuts
+    # Pieces shorter than what one period covers would each be stretched to
+    # a whole period: keep cuts at least that far apart along the stroke.
+    sP = np.concatenate([[0.0], np.cumsum(L)])[cuts]
+    gap = _CUT_GAP * tip_speed * period
+    keep = [0]
+    for j in range(1, len(cuts)):    # a loop over the cuts only, few per stroke
+        if sP[j] - sP[keep[-1]] >= gap:
+            keep.append(j)
+    return cuts[keep]
 
 
 def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
