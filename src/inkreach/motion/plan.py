@@ -299,6 +299,11 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     n = np.where(dur > 0, np.ceil(dur / period - 1e-9), 0).astype(int)
     dwell = path.kind == _DWELL
     n[dwell] = n_dwell
+    # Zero-order hold: the pen is commanded down on the row where the pen-up
+    # move arrives at rest, so that row is the first of the lowering dwell.
+    lower = np.flatnonzero(dwell & (path.pen == 1))
+    early = lower[n[lower - 1] > 0] if lower.size else lower
+    n[early] -= 1
     with np.errstate(divide="ignore", invalid="ignore"):
         r = np.where(n > 0, dur / (n * period), 0.0)
     rp = np.repeat(np.arange(len(n)), n)
@@ -319,6 +324,9 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     q = np.concatenate([path.Q[:1], q])
     pen = np.concatenate([[0], path.pen[rp]]).astype(np.int8)
     stroke = np.concatenate([[-1], path.stroke[rp]])
+    arrive = offs[early - 1] + n[early - 1]
+    pen[arrive] = 1
+    stroke[arrive] = path.stroke[early]
     tau = np.concatenate([[np.nan], tau])
     return q, pen, stroke, tau, tv
 
