@@ -195,3 +195,17 @@ def test_dwell_is_the_lift_time_under_hold():
     first_move = int(np.argmin(still)) + 1
     assert first_move * s.period == pytest.approx(arm.pen.lift_s)
     assert isinstance(s, JointStream)
+
+
+def test_plan_records_the_tip_speed_and_the_execution_model():
+    # plan.json options carry the limit as a number even when left at its default.
+    import json
+
+    import inkreach
+
+    img = np.full((64, 64), 255, np.uint8)
+    img[20:44, 30:34] = 0
+    p = inkreach.plan(img, style="centerline", fidelity=False)
+    opts = json.loads(p.files()["plan.json"])["options"]
+    assert opts["tip_speed"] == 80.0 and opts["execution"] == "hold"
+    assert p.report.max_tip_speed_mm_s <= 80.0
