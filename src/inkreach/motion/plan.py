@@ -26,8 +26,8 @@ TIP_SPEED = 80.0
 _CUT_GAP = 1.0                   # least distance between cuts, in periods at the tip speed
 _CUT_ANGLE = np.deg2rad(5.0)     # only vertices turning more than this get a row of their own
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
-_SLOWDOWN = 0.85
-_MAX_REPAIRS = 60
+_SLOWDOWN = 0.95
+_MAX_REPAIRS = 120
 
 
 def _as_strokes(strokes):
