@@ -416,8 +416,10 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     differences still break a limit (joint speed, acceleration, or the tip
     speed from forward kinematics) are slowed down locally and re-timed.
     The stream is executed by holding each row for one period (zero-order
-    hold); pen dwells are ``ceil(lift_s / period)`` rows. The finished
-    stream is checked by :func:`check_stream`, tip speed included.
+    hold): the pen is commanded down on the row where a pen-up move arrives
+    at rest, and up on the row after a stroke's last row, and in both cases
+    the next move is commanded ``ceil(lift_s / period)`` periods later. The
+    finished stream is checked by :func:`check_stream`, tip speed included.
 
     Parameters
     ----------
