@@ -93,7 +93,8 @@ def _add_plan_options(p):
     p.add_argument("--chord-tol", type=float, default=0.05, metavar="MM",
                    help="how far a drawn line may stray from straight, mm (default 0.05)")
     p.add_argument("--period", type=float, default=0.02, metavar="S",
-                   help="sample period of the joint stream, seconds (default 0.02)")
+                   help="sample period of the joint stream, seconds (default 0.02; a whole "
+                        "number of servo frames when the arm has a [servo] table)")
     p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
                    help="largest pen speed while drawing, mm/s (default 80)")
     p.add_argument("--signals", choices=("auto", "servo", "stepper", "both"), default="auto",

@@ -4,7 +4,7 @@ import numpy as np
 
 from ..errors import InkreachError
 from ..place._geometry import _ccw, _inside_convex
-from .check import check_stream, _distance_to_strokes, _stream_violations
+from .check import check_stream, _stream_violations
 from .stream import JointStream
 from .subdivide import _drop_repeats, _subdivide_many
 from .timing import _forward_backward, _position_in_segment, _segment_profiles
@@ -374,7 +374,46 @@ def _tip_violations(q, pen, stroke, period, arm, tip_speed):
     return np.unique(np.concatenate([k, k + 1]))
 
 
-def _chord_violations(q, pen, stroke, arm, strokes, chord_tol):
+class _StrokeIndex:
+    """Strokes cut into short pieces under a k-d tree, built once, queried per re-timing.
+
+    The same distance as the final check uses (``check._distance_to_strokes``:
+    pieces no longer than ``4 * chord_tol``, the stroke index as a far-apart
+    third coordinate, exact point-to-segment distance to the nearest pieces).
+    """
+
+    def __init__(self, strokes, chord_tol):
+        from scipy.spatial import cKDTree
+
+        h = 4.0 * chord_tol
+        pts = np.concatenate(strokes)
+        sid = np.repeat(np.arange(len(strokes)), [len(x) for x in strokes])
+        one = np.array([len(x) == 1 for x in strokes])
+        same = sid[1:] == sid[:-1]
+        a, b, ls = pts[:-1][same], pts[1:][same], sid[:-1][same]
+        m = np.maximum(1, np.ceil(np.hypot(*(b - a).T) / h).astype(int))
+        w = np.repeat(np.arange(len(a)), m)
+        k = np.arange(m.sum()) - np.repeat(np.cumsum(m) - m, m)
+        u0, u1 = (k / m[w])[:, None], ((k + 1) / m[w])[:, None]
+        dots = np.flatnonzero(one)
+        dp = pts[np.searchsorted(sid, dots)] if dots.size else np.zeros((0, 2))
+        self.A = np.concatenate([a[w] + u0 * (b - a)[w], dp])
+        self.B = np.concatenate([a[w] + u1 * (b - a)[w], dp])
+        self.sid = np.concatenate([ls[w], dots])
+        self.big = 1e7
+        self.tree = cKDTree(np.column_stack([0.5 * (self.A + self.B), self.sid * self.big]))
+
+    def distance(self, x, lab):
+        from ..place._geometry import _point_segment_distance
+
+        k = min(8, len(self.A))
+        _, idx = self.tree.query(np.column_stack([x, lab * self.big]), k=k)
+        idx = idx.reshape(len(x), k)
+        d = _point_segment_distance(x[:, None, :], self.A[idx], self.B[idx])
+        return np.where(self.sid[idx] == lab[:, None], d, np.inf).min(axis=1)
+
+
+def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     """Rows whose pen, or whose joint-space midpoint with the next row, strays too far.
 
     The same rule as :func:`check_stream`, so the corner rule may be
@@ -388,7 +427,7 @@ def _chord_violations(q, pen, stroke, arm, strokes, chord_tol):
     lab = np.concatenate([stroke[kd], stroke[pair]])
     row = np.concatenate([kd, pair])
     # Headroom of 1 % of the tolerance for rounding the angles when written.
-    bad = row[_distance_to_strokes(pts, lab, strokes, chord_tol) > 0.99 * chord_tol]
+    bad = row[index.distance(pts, lab) > 0.99 * chord_tol]
     return np.unique(np.concatenate([bad, bad + 1]))
 
 
@@ -568,12 +607,16 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
 
     f = np.ones(len(g["length"]))
+    index = None
     for _ in range(_MAX_REPAIRS):
         q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
                                              n_dwell)
         rows = _stream_violations(q, period, arm)
         rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
-        rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, S, chord_tol))
+        if index is None and n:
+            index = _StrokeIndex(S, chord_tol)
+        if index is not None:
+            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
