@@ -55,8 +55,9 @@ def toppra_time(Q, arm, tip_speed, grid=None):
         return np.column_stack([-b, b])
 
     cs = [con.JointVelocityConstraintVarying(vlim),
-          con.JointAccelerationConstraint(np.array([[-amax, amax]] * 2),
-                                          discretization_scheme=con.DiscretizationType.Interpolation)]
+          con.JointAccelerationConstraint(
+              np.array([[-amax, amax]] * 2),
+              discretization_scheme=con.DiscretizationType.Interpolation)]
     inst = algo.TOPPRA(cs, path, gridpoints=gp, parametrizer="ParametrizeConstAccel")
     sdd, sd, _, _ = inst.compute_parameterization(0, 0, return_data=True)
     if sd is None:
@@ -104,7 +105,8 @@ def plan_figures(strokes, arm, q0, region, tip_speed):
     lift = 2 * len(strokes) * arm.pen.lift_s
     bound = ref_down + ref_up + lift
     return {"strokes": len(strokes), "down": ours_down, "ref_down": ref_down,
-            "up": ours_up, "ref_up": ref_up, "ref_up_rows": ref_up_rows, "dwell": dwell, "lift": lift,
+            "up": ours_up, "ref_up": ref_up, "ref_up_rows": ref_up_rows,
+            "dwell": dwell, "lift": lift,
             "total": st.duration, "bound": bound, "plan_s": t_plan, "ref_s": t_ref}
 
 

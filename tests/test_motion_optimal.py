@@ -209,3 +209,21 @@ def test_plan_records_the_tip_speed_and_the_execution_model():
     opts = json.loads(p.files()["plan.json"])["options"]
     assert opts["tip_speed"] == 80.0 and opts["execution"] == "hold"
     assert p.report.max_tip_speed_mm_s <= 80.0
+
+
+def test_a_corner_that_must_stop_gets_a_zero_speed_cap():
+    # Regression: the corner speed may come out negative ("stop here"); its
+    # square must not turn into a positive cap. A near reversal at 20 ms:
+    # cutting it by at most 0.02 mm between two rows allows under 2 mm/s
+    # (2 tol / (T sin(th / 2))), less than the speed change within a period.
+    from inkreach.motion.plan import _STROKE, _Path, _corner_speed, _geometry, _vertex_caps
+
+    arm = default_arm()
+    P = np.array([[0.0, 150.0], [10.0, 150.0], [0.0, 150.2]])
+    Q = arm.ik(P)
+    path = _Path([(_STROKE, P, Q, 1, 0)])
+    g = _geometry(path, arm, 1.0, 80.0)
+    dp = np.diff(P, axis=0)
+    assert _corner_speed(dp[:1], dp[1:], np.array([3000.0]), 0.02, 0.05)[0] < 0
+    cap2 = _vertex_caps(path, g, arm, 1.0, 0.02, 0.05, np.ones(len(g["length"])))
+    assert cap2[1] == 0.0

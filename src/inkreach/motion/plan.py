@@ -519,7 +519,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     if not chord_tol > 0:
         raise InkreachError(f"chord_tol must be greater than zero, got {chord_tol!r}")
     if not 0 < margin <= 1:
-        raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 0.97 is usual")
+        raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 1 (the default) uses "
+                            "the arm's limits as they are")
     _servo_frame_check(arm, period)
     tip_speed = TIP_SPEED if tip_speed is None else float(tip_speed)
     if not tip_speed > 0:
