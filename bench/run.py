@@ -444,6 +444,11 @@ def section_targets(results):
         rows.append(["≥ 5M IK + conditioning evaluations per second on the five-bar",
                      ", ".join(f"{k}: {v / 1e6:.2f} M/s" for k, v in ik.items()),
                      mark(ik.get("default", 0.0) >= 5e6)])
+    mo = results.get("motion")
+    if mo:
+        rows.append(["pen-down ≤ 1.05× TOPP-RA, pen-up ≤ 1.05× optimal, whole ≤ 1.08× bound",
+                     f"worst {mo['down']:.3f}× / {mo['up']:.3f}× / {mo['total']:.3f}×",
+                     mark(mo["down"] <= 1.05 and mo["up"] <= 1.05 and mo["total"] <= 1.08)])
     return ("Goals, not assertions. Quote ratios measured in one run.\n\n"
             + _table(["target", "measured", "status"], rows))
 
@@ -485,6 +490,8 @@ def main(argv=None):
     run("Drawing time and fidelity per style", section_drawing, cfg, results)
     import bench_tone
     run(bench_tone.TITLE, bench_tone.section, cfg)
+    from bench_motion import section_motion
+    run("Motion time against TOPP-RA and the lower bound", section_motion, cfg, results)
     targets = f"## Targets\n\n{section_targets(results)}\n"
     total = T() - t0
     text = "\n".join(parts) + "\n" + targets + "\n" + "\n".join(body) + \

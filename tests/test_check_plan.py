@@ -354,8 +354,6 @@ def test_command_line_exit_codes(saved, tmp_path, capsys):
     assert len(err) == 2 and all(e.startswith("inkreach: error:") for e in err)
 
 
-@pytest.mark.xfail(reason="the planner's pen speed overshoots tip_speed by about 1e-4 of it "
-                          "(joint-linear segments, bound taken at their ends)", strict=False)
 def test_a_plan_made_with_a_tip_speed_keeps_it(saved, tmp_path):
     pic = next(saved.parent.glob("pic*/pic.png"))
     out = tmp_path / "tip"

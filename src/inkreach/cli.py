@@ -100,9 +100,10 @@ def _add_plan_options(p):
                         "0.001 to 10: finer no motor follows, coarser lines visibly bend)")
     p.add_argument("--period", type=float, default=None, metavar="S",
                    help="sample period of the joint stream, seconds (default 0.02; 0.001 to "
-                        "1: faster few controllers keep up, slower cannot follow a stroke)")
+                        "1: faster few controllers keep up, slower cannot follow a stroke; a "
+                        "whole number of servo frames when the arm has a [servo] table)")
     p.add_argument("--tip-speed", type=float, default=None, metavar="MM_S",
-                   help="largest pen speed while drawing, mm/s (default: the motion stage's; "
+                   help="largest pen speed while drawing, mm/s (default 80; "
                         "0.01 to 10000)")
     p.add_argument("--signals", choices=("auto", "servo", "stepper", "both", "none"),
                    default=None,

@@ -18,7 +18,7 @@ STAGES = ("arm", "load", "trace", "merge", "place", "route", "motion", "check", 
 PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
                  "rotations": None, "tilt": False}
 #: Options of the motion stage, with their defaults.
-MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": None}
+MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": 80.0}  # tip: motion.plan.TIP_SPEED
 #: Options of the planner itself.
 PLAN_OPTIONS = {"max_side": 1200, "max_pixels": 40_000_000, "joint_order": True,
                 "signals": "auto", "start": None, "fidelity": True, "budget": None}
@@ -316,7 +316,7 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     step("check")
     try:
         report = check_stream(stream, arm, strokes=route.strokes,
-                              chord_tol=motion_opts["chord_tol"])
+                              chord_tol=motion_opts["chord_tol"], tip_speed=stream.tip_speed)
     except InkreachError as exc:
         raise InkreachError(limits.in_user_terms(str(exc), motion_opts["period"],
                                                  motion_opts["chord_tol"])) from None
@@ -330,7 +330,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         # steps or whole microseconds causes, by forward kinematics
         stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
                                             5)
-    used = {**style_opts, **place_opts, **motion_opts, "max_side": max_side,
+    used = {**style_opts, **place_opts, **motion_opts, "tip_speed": float(stream.tip_speed),
+            "execution": stream.execution, "max_side": max_side,
             **vsrc.used_options(kind, vec_opts),
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}

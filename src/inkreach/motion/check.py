@@ -41,6 +41,10 @@ class StreamReport:
         were given).
     pen_down_rows : int
         Rows with the pen on the paper.
+    max_tip_speed_mm_s : float
+        Largest finite-difference pen speed ``|xy[k+1] - xy[k]| / period``
+        (forward kinematics) over consecutive pen-down rows of one stroke,
+        mm/s (NaN when there are no such rows).
     """
 
     rows: int
@@ -51,6 +55,7 @@ class StreamReport:
     min_conditioning: float
     max_deviation_mm: float
     pen_down_rows: int
+    max_tip_speed_mm_s: float = float("nan")
 
 
 def _where(k, period):
@@ -144,7 +149,7 @@ def _distance_to_strokes(x, lab, strokes, chord_tol):
     return dist.min(axis=1)
 
 
-def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
+def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_speed=None):
     """Check a finished joint stream against every limit of the arm.
 
     Independent of how the stream was made: forward kinematics of every row
@@ -169,6 +174,10 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
     atol : float
         Tolerance on positions that must be exact (``xy`` against forward
         kinematics, stroke ends), mm.
+    tip_speed : float, optional
+        Pen-tip speed limit, mm/s: the finite-difference speed of the forward
+        kinematics of every two consecutive pen-down rows of one stroke must
+        not exceed it. Not checked when None.
 
     Returns
     -------
@@ -260,8 +269,19 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
               f"exceeds the limit {np.rad2deg(lim.max_accel):g} deg/s^2; lower margin and "
               "plan again")
 
-    deviation = float("nan")
     down = pen == 1
+    lab0 = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
+    both = np.flatnonzero(down[1:] & down[:-1] & (lab0[1:] == lab0[:-1])) if N > 1 else \
+        np.zeros(0, int)
+    tip = np.hypot(*(x[both + 1] - x[both]).T) / T
+    max_tip = float(tip.max()) if tip.size else float("nan")
+    if tip_speed is not None and tip.size:
+        vt = float(tip_speed) * (1 + _REL_TOL)
+        if (k := _first(tip > vt)) is not None:
+            _fail(f"{_where(int(both[k]) + 1, T)}: pen speed {tip[k]:.2f} mm/s exceeds the tip "
+                  f"limit {float(tip_speed):g} mm/s; lower tip_speed and plan again")
+
+    deviation = float("nan")
     if strokes is not None:
         S = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
         lab = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
@@ -315,4 +335,4 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6):
         max_accel_deg_s2=tuple(float(u) for u in np.rad2deg(a.max(axis=0) if len(a) else
                                                             np.zeros(2))),
         min_conditioning=float(c.min()), max_deviation_mm=deviation,
-        pen_down_rows=int(down.sum()))
+        pen_down_rows=int(down.sum()), max_tip_speed_mm_s=max_tip)

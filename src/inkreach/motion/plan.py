@@ -17,9 +17,17 @@ _LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
 _NORMAL_SHARE = 0.5              # share of the acceleration budget spent turning corners
 _PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
 _CORNER_SHARE = 0.4              # share of chord_tol a corner may be cut between two rows
-_STOP_BELOW = 0.25               # stop at a corner that would need less than this x tip speed
-_SLOWDOWN = 0.85
-_MAX_REPAIRS = 60
+_STOP_BELOW = 0.5                # put a row on a corner passed slower than this x the on-row speed
+#: Default pen-tip speed limit while drawing, mm/s. A bound we chose for
+#: fibre-tip and gel pens on light hobby arms, well under the ~380 mm/s of
+#: classic pen plotters (HP 7475A, from memory): common practice for a
+#: clean, even line.
+TIP_SPEED = 80.0
+_CUT_GAP = 1.0                   # least distance between cuts, in periods at the tip speed
+_CUT_ANGLE = np.deg2rad(5.0)     # only vertices turning more than this get a row of their own
+_ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
+_SLOWDOWN = 0.95
+_MAX_REPAIRS = 120
 
 
 def _as_strokes(strokes):
@@ -124,6 +132,12 @@ class _Path:
         self.first = np.concatenate([[0], np.cumsum(sizes)[:-1]])
         self.last = self.first + sizes - 1
         self.vpiece = np.repeat(np.arange(len(pieces)), sizes)
+        # A join: piece p and p + 1 are consecutive parts of one stroke, cut
+        # at a sharp vertex so that a row lands exactly on it.
+        self.join = np.zeros(len(pieces), bool)
+        if len(pieces) > 1:
+            self.join[:-1] = ((self.kind[:-1] == _STROKE) & (self.kind[1:] == _STROKE)
+                              & (self.stroke[:-1] == self.stroke[1:]))
 
 
 def _geometry(path, arm, margin, tip_speed):
@@ -182,49 +196,91 @@ def _corner_speed(a, b, acc, period, chord_tol):
         c = np.clip(np.einsum("ij,ij->i", a, b) / (la * lb), -1.0, 1.0)
         th = np.arccos(c)
         sbar = 0.5 * (la + lb)
-        vc = np.minimum(2 * tol / (period * np.sin(th / 2)) - acc * period,
+        vc = np.minimum(2 * tol / (period * np.sin(th / 2)) - _ACC_SHARE * acc * period,
                         np.sqrt(8 * tol * sbar / th) / period)
     return np.where(th > 1e-12, vc, np.inf)
 
 
 def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
-    """Interior vertices of a subdivided stroke where the pen should stop."""
+    """Interior vertices of a subdivided stroke that get a row of their own.
+
+    A vertex is cut (a row is put exactly on it) where passing it between
+    two rows would have to be much slower, under the corner rule, than
+    passing it on a row, where only the change of joint direction within
+    one period limits the speed; and where it turns by more than
+    ``_CUT_ANGLE``, so smooth curves are not cut into many short pieces.
+    """
     if len(P) < 3:
         return np.zeros(0, int)
     dp = np.diff(P, axis=0)
     dq = np.diff(Q, axis=0)
     L = np.hypot(dp[:, 0], dp[:, 1])
-    qpm = np.abs(dq / L[:, None]).max(axis=1)
+    qp = dq / L[:, None]
+    qpm = np.abs(qp).max(axis=1)
     with np.errstate(divide="ignore"):
         acc = margin * arm.limits.max_accel / qpm
     at = np.maximum(acc[:-1], acc[1:])
     vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
-    return np.flatnonzero(vc < _STOP_BELOW * tip_speed) + 1
+    jump = np.abs(qp[1:] - qp[:-1]).max(axis=1)
+    with np.errstate(divide="ignore"):
+        vk = np.minimum(_NORMAL_SHARE * margin * arm.limits.max_accel * period / jump, tip_speed)
+    c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
+    sharp = c < np.cos(_CUT_ANGLE)
+    cuts = np.flatnonzero((vc < _STOP_BELOW * vk) & sharp) + 1
+    if cuts.size < 2:
+        return cuts
+    # Pieces shorter than what one period covers would each be stretched to
+    # a whole period: keep cuts at least that far apart along the stroke.
+    sP = np.concatenate([[0.0], np.cumsum(L)])[cuts]
+    gap = _CUT_GAP * tip_speed * period
+    keep = [0]
+    for j in range(1, len(cuts)):    # a loop over the cuts only, few per stroke
+        if sP[j] - sP[keep[-1]] >= gap:
+            keep.append(j)
+    return cuts[keep]
 
 
 def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
-    """Squared speed cap of every vertex (0 at the ends of every piece)."""
+    """Squared speed cap of every vertex.
+
+    Zero at the ends of every piece except at joins (see :class:`_Path`),
+    where a row lands exactly on the vertex: there the only rule is that the
+    change of joint direction fits in one period within the share
+    ``_NORMAL_SHARE`` of the acceleration limit. Inside a piece the corner
+    rule of :func:`_corner_speed` applies too; where it asks for a stop
+    (a negative speed) the cap is zero.
+    """
     K = len(path.Q)
     cap = np.zeros(K)
+    an = _NORMAL_SHARE * margin * arm.limits.max_accel
+
+    def kink(i_in, i_out):
+        fi = np.minimum(f[i_in], f[i_out])
+        vs = np.minimum(g["vseg"][i_in] * f[i_in], g["vseg"][i_out] * f[i_out])
+        sbar = 0.5 * (g["length"][i_in] + g["length"][i_out])
+        jump = np.abs(g["qp"][i_out] - g["qp"][i_in]).max(axis=1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
+                          np.inf)
+        return np.minimum(vs, vj * fi)
+
     inner = np.zeros(K, bool)
     inner[1:-1] = g["same"][:-1] & g["same"][1:]
     i = np.flatnonzero(inner)
     if i.size:
-        fi = np.minimum(f[i - 1], f[i])
-        vs = np.minimum(g["vseg"][i - 1] * f[i - 1], g["vseg"][i] * f[i])
-        sbar = 0.5 * (g["length"][i - 1] + g["length"][i])
-        jump = np.abs(g["qp"][i] - g["qp"][i - 1]).max(axis=1)
-        an = _NORMAL_SHARE * margin * arm.limits.max_accel
-        with np.errstate(divide="ignore", invalid="ignore"):
-            vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
-                          np.inf)
-        vs = np.minimum(vs, vj * fi)
+        vs = kink(i - 1, i)
         dr = g["drawing"][i - 1] & g["drawing"][i]
         if np.any(dr):
             at = np.maximum(g["acc"][i - 1] * f[i - 1] ** 2, g["acc"][i] * f[i] ** 2)
             vc = _corner_speed(g["dp"][i - 1], g["dp"][i], at, period, chord_tol)
             vs = np.where(dr, np.minimum(vs, vc), vs)
-        cap[i] = vs
+        cap[i] = np.maximum(vs, 0.0)
+    p = np.flatnonzero(path.join)
+    if p.size:
+        L, R = path.last[p], path.first[p + 1]
+        vs = np.maximum(kink(L - 1, R), 0.0)
+        cap[L] = vs
+        cap[R] = vs
     return cap * cap
 
 
@@ -243,6 +299,11 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     n = np.where(dur > 0, np.ceil(dur / period - 1e-9), 0).astype(int)
     dwell = path.kind == _DWELL
     n[dwell] = n_dwell
+    # Zero-order hold: the pen is commanded down on the row where the pen-up
+    # move arrives at rest, so that row is the first of the lowering dwell.
+    lower = np.flatnonzero(dwell & (path.pen == 1))
+    early = lower[n[lower - 1] > 0] if lower.size else lower
+    n[early] -= 1
     with np.errstate(divide="ignore", invalid="ignore"):
         r = np.where(n > 0, dur / (n * period), 0.0)
     rp = np.repeat(np.arange(len(n)), n)
@@ -263,6 +324,9 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     q = np.concatenate([path.Q[:1], q])
     pen = np.concatenate([[0], path.pen[rp]]).astype(np.int8)
     stroke = np.concatenate([[-1], path.stroke[rp]])
+    arrive = offs[early - 1] + n[early - 1]
+    pen[arrive] = 1
+    stroke[arrive] = path.stroke[early]
     tau = np.concatenate([[np.nan], tau])
     return q, pen, stroke, tau, tv
 
@@ -285,8 +349,90 @@ def _slow_down(f, tv, tau, rows, period):
     return True
 
 
+def _servo_frame_check(arm, period):
+    """Refuse a period that is not a whole number of the arm's servo frames."""
+    servo = (arm.hardware or {}).get("servo") if hasattr(arm, "hardware") else None
+    if not servo:
+        return
+    hz = float(servo.get("frame_hz", 50.0))
+    frames = period * hz
+    if abs(frames - round(frames)) > 1e-6 or round(frames) < 1:
+        f = 1.0 / hz
+        raise InkreachError(
+            f"period {period:g} s is not a whole number of servo frames ({f * 1000:g} ms at "
+            f"{hz:g} Hz); use {f:g}, {2 * f:g} or {3 * f:g} s")
+
+
+def _tip_violations(q, pen, stroke, period, arm, tip_speed):
+    """First rows of pen-down row pairs whose finite-difference tip speed is too high."""
+    if len(q) < 2:
+        return np.zeros(0, int)
+    x = arm.fk(q)
+    both = (pen[1:] == 1) & (pen[:-1] == 1) & (stroke[1:] == stroke[:-1])
+    sp = np.hypot(*np.diff(x, axis=0).T) / period
+    k = np.flatnonzero(both & (sp > tip_speed * (1 - 1e-9)))
+    return np.unique(np.concatenate([k, k + 1]))
+
+
+class _StrokeIndex:
+    """Strokes cut into short pieces under a k-d tree, built once, queried per re-timing.
+
+    The same distance as the final check uses (``check._distance_to_strokes``:
+    pieces no longer than ``4 * chord_tol``, the stroke index as a far-apart
+    third coordinate, exact point-to-segment distance to the nearest pieces).
+    """
+
+    def __init__(self, strokes, chord_tol):
+        from scipy.spatial import cKDTree
+
+        h = 4.0 * chord_tol
+        pts = np.concatenate(strokes)
+        sid = np.repeat(np.arange(len(strokes)), [len(x) for x in strokes])
+        one = np.array([len(x) == 1 for x in strokes])
+        same = sid[1:] == sid[:-1]
+        a, b, ls = pts[:-1][same], pts[1:][same], sid[:-1][same]
+        m = np.maximum(1, np.ceil(np.hypot(*(b - a).T) / h).astype(int))
+        w = np.repeat(np.arange(len(a)), m)
+        k = np.arange(m.sum()) - np.repeat(np.cumsum(m) - m, m)
+        u0, u1 = (k / m[w])[:, None], ((k + 1) / m[w])[:, None]
+        dots = np.flatnonzero(one)
+        dp = pts[np.searchsorted(sid, dots)] if dots.size else np.zeros((0, 2))
+        self.A = np.concatenate([a[w] + u0 * (b - a)[w], dp])
+        self.B = np.concatenate([a[w] + u1 * (b - a)[w], dp])
+        self.sid = np.concatenate([ls[w], dots])
+        self.big = 1e7
+        self.tree = cKDTree(np.column_stack([0.5 * (self.A + self.B), self.sid * self.big]))
+
+    def distance(self, x, lab):
+        from ..place._geometry import _point_segment_distance
+
+        k = min(8, len(self.A))
+        _, idx = self.tree.query(np.column_stack([x, lab * self.big]), k=k)
+        idx = idx.reshape(len(x), k)
+        d = _point_segment_distance(x[:, None, :], self.A[idx], self.B[idx])
+        return np.where(self.sid[idx] == lab[:, None], d, np.inf).min(axis=1)
+
+
+def _chord_violations(q, pen, stroke, arm, index, chord_tol):
+    """Rows whose pen, or whose joint-space midpoint with the next row, strays too far.
+
+    The same rule as :func:`check_stream`, so the corner rule may be
+    optimistic: rows it lets cut a corner too deeply are slowed down.
+    """
+    kd = np.flatnonzero(pen == 1)
+    if kd.size == 0:
+        return np.zeros(0, int)
+    pair = kd[:-1][(np.diff(kd) == 1) & (stroke[kd[1:]] == stroke[kd[:-1]])]
+    pts = np.concatenate([arm.fk(q[kd]), arm.fk(0.5 * (q[pair] + q[pair + 1]))])
+    lab = np.concatenate([stroke[kd], stroke[pair]])
+    row = np.concatenate([kd, pair])
+    # Headroom of 1 % of the tolerance for rounding the angles when written.
+    bad = row[index.distance(pts, lab) > 0.99 * chord_tol]
+    return np.unique(np.concatenate([bad, bad + 1]))
+
+
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
-                tip_speed=None, region=None, margin=0.97):
+                tip_speed=None, region=None, margin=1.0):
     """Plan the joint stream that draws ordered strokes.
 
     Pen-down moves follow the strokes: each is subdivided (:func:`subdivide`)
@@ -294,16 +440,25 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     the straight segments. Pen-up moves are straight in joint space where
     every posture on the way is usable (inside the limits, assembling, at
     or above the conditioning floor), otherwise straight in Cartesian space.
-    Every move, dwell and stroke starts and ends at rest; each is timed by a
-    forward-backward pass over its samples under per-joint speed and
-    acceleration limits (``margin`` times the arm's), a tip-speed limit
-    while drawing, and corner-speed limits (a sharp corner may not be cut
-    by more than half of ``chord_tol`` between two rows, and a change of
-    joint direction must fit in one period at the acceleration limit). Each
-    piece is stretched to a whole number of periods and sampled, so a
-    stroke's first and last points are exact rows. Stretches whose sampled
-    finite differences still break a limit are slowed down and re-timed.
-    The finished stream is checked by :func:`check_stream`.
+    Every move, dwell and stroke starts and ends at rest. Each stroke is
+    timed as one path by the phase-plane forward-backward pass (exact
+    time-optimal on the joint-linear pieces between vertices) under
+    per-joint speed and acceleration limits (``margin`` times the arm's,
+    1 by default: no blanket margin), the tip-speed limit and
+    discrete-time corner limits: a corner may not be cut by more than
+    ``0.4 chord_tol`` between two rows, and a change of joint direction
+    must fit in one period within half the acceleration limit. A sharp
+    vertex, where the corner rule would force a near stop, gets a row
+    exactly on it instead and is passed at the speed the joint direction
+    change allows, without stopping: the stroke's time between such
+    vertices is stretched to a whole number of periods. Rows whose finite
+    differences still break a limit (joint speed, acceleration, or the tip
+    speed from forward kinematics) are slowed down locally and re-timed.
+    The stream is executed by holding each row for one period (zero-order
+    hold): the pen is commanded down on the row where a pen-up move arrives
+    at rest, and up on the row after a stroke's last row, and in both cases
+    the next move is commanded ``ceil(lift_s / period)`` periods later. The
+    finished stream is checked by :func:`check_stream`, tip speed included.
 
     Parameters
     ----------
@@ -319,13 +474,14 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     period : float
         Sample period, seconds.
     tip_speed : float, optional
-        Largest pen speed while drawing, mm/s (default 80).
+        Largest pen speed while drawing, mm/s (default :data:`TIP_SPEED`,
+        80), applied to every pen-down row pair.
     region : array_like, shape (M, 2), optional
         A convex polygon (mm) where straight pen-up moves are known to be
         safe, e.g. the hull of the placed drawing.
     margin : float
         Fraction of the arm's speed and acceleration limits used when
-        planning, in (0, 1].
+        planning, in (0, 1] (default 1).
 
     Returns
     -------
@@ -363,8 +519,10 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     if not chord_tol > 0:
         raise InkreachError(f"chord_tol must be greater than zero, got {chord_tol!r}")
     if not 0 < margin <= 1:
-        raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 0.97 is usual")
-    tip_speed = 80.0 if tip_speed is None else float(tip_speed)
+        raise InkreachError(f"margin must be in (0, 1], got {margin!r}; 1 (the default) uses "
+                            "the arm's limits as they are")
+    _servo_frame_check(arm, period)
+    tip_speed = TIP_SPEED if tip_speed is None else float(tip_speed)
     if not tip_speed > 0:
         raise InkreachError(f"tip_speed must be greater than zero, got {tip_speed!r}")
     if region is not None:
@@ -450,10 +608,16 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
 
     f = np.ones(len(g["length"]))
+    index = None
     for _ in range(_MAX_REPAIRS):
         q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
                                              n_dwell)
         rows = _stream_violations(q, period, arm)
+        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+        if index is None and n:
+            index = _StrokeIndex(S, chord_tol)
+        if index is not None:
+            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
@@ -462,6 +626,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
-                         period=period, stroke=stroke)
-    check_stream(stream, arm, strokes=S, chord_tol=chord_tol)
+                         period=period, stroke=stroke, execution="hold",
+                         tip_speed=tip_speed)
+    check_stream(stream, arm, strokes=S, chord_tol=chord_tol, tip_speed=tip_speed)
     return stream

@@ -25,6 +25,12 @@ class JointStream:
         Sample period, seconds.
     stroke : ndarray of int, shape (N,)
         Index of the stroke a pen-down row belongs to, -1 for pen-up rows.
+    execution : str
+        How the board plays the rows: ``"hold"`` (zero-order hold: each
+        row's angles and pen state are commanded at ``t[k]`` and held for
+        one period). Dwells are counted in whole rows under this model.
+    tip_speed : float or None
+        The pen-tip speed limit the stream was planned under, mm/s.
     """
 
     t: np.ndarray
@@ -33,6 +39,8 @@ class JointStream:
     xy: np.ndarray
     period: float
     stroke: np.ndarray = None
+    execution: str = "hold"
+    tip_speed: float = None
 
     def __len__(self):
         return len(self.t)
