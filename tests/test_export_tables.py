@@ -103,7 +103,7 @@ int main(void) {
     for (k = 0; k < INKREACH_PLAN_ROWS; ++k) on += INKREACH_PLAN_PEN(k);
     printf("%lu %lu %u %u %ld %ld %lu\n", (unsigned long)INKREACH_PLAN_ROWS,
            (unsigned long)INKREACH_PLAN_PERIOD_US,
-           (unsigned)inkreach_plan_pulse_us[0][0], (unsigned)inkreach_plan_pulse_us[0][1],
+           (unsigned)inkreach_plan_pulse_ticks[0][0], (unsigned)inkreach_plan_pulse_ticks[0][1],
            (long)inkreach_plan_steps[INKREACH_PLAN_ROWS - 1][0],
            (long)inkreach_plan_steps[INKREACH_PLAN_ROWS - 1][1], on);
     return 0;
@@ -126,7 +126,9 @@ def test_firmware_header_compiles_with_gcc_and_holds_the_right_values(tmp_path):
     subprocess.run(["gcc", "-std=c99", "-Wall", "-Werror", "-o", str(exe),
                     str(tmp_path / "main.c")], check=True, cwd=tmp_path, capture_output=True)
     out = subprocess.run([str(exe)], check=True, capture_output=True, text=True).stdout.split()
-    assert out == [str(len(s)), "10000", str(sv.pulse_us[0, 0]), str(sv.pulse_us[0, 1]),
+    # pulses go in as 1/16 us ticks
+    assert out == [str(len(s)), "10000", str(int(sv.pulse_us[0, 0] * 16)),
+                   str(int(sv.pulse_us[0, 1] * 16)),
                    str(st.steps[-1, 0]), str(st.steps[-1, 1]), str(int(s.pen.sum()))]
 
 

@@ -106,24 +106,37 @@ def test_servo_calibration_refuses_bad_tables_with_one_line(table, words):
     assert "\n" not in str(info.value)
 
 
-def test_servo_pulses_are_whole_microseconds_and_pen_pulses_follow_pen():
+@pytest.mark.parametrize("tick", [1.0, 1.0 / 16.0])
+def test_servo_pulses_are_whole_ticks_and_pen_pulses_follow_pen(tick):
+    # a uniform quantiser errs by at most half a step (Widrow & Kollar 2008)
     s = _line_stream()
-    sig = servo_pulses(s, servo_calibration_from_arm(_bare_default()))
-    assert sig.pulse_us.dtype == np.int64 and sig.pulse_us.shape == (len(s), 2)
+    sig = servo_pulses(s, servo_calibration_from_arm(_bare_default()), tick_us=tick)
+    assert sig.pulse_us.shape == (len(s), 2)
+    np.testing.assert_array_equal(sig.pulse_us / tick, np.rint(sig.pulse_us / tick))
     cal = sig.calibration
     assert np.all(sig.pen_us[s.pen == 1] == cal.pen_down_us)
     assert np.all(sig.pen_us[s.pen == 0] == cal.pen_up_us)
-    exact = servo_pulses(s, cal, whole_us=False).pulse_us
-    assert np.max(np.abs(exact - sig.pulse_us)) <= 0.5
+    exact = servo_pulses(s, cal, tick_us=None).pulse_us
+    err = np.abs(exact - sig.pulse_us)
+    assert err.max() <= tick / 2 + 1e-9
+    assert err.max() > tick / 4        # the rounding really is to this tick
 
 
-def test_servo_quantised_angles_are_within_half_a_microsecond_of_the_command():
+def test_default_servo_pulses_are_sixteenths_of_a_microsecond():
+    # the reference firmware's 16-bit timer at 16 MHz: 62.5 ns a tick
+    s = _line_stream()
+    sig = servo_pulses(s, servo_calibration_from_arm(_bare_default()))
+    np.testing.assert_array_equal(sig.pulse_us * 16, np.rint(sig.pulse_us * 16))
+    assert np.any(sig.pulse_us != np.rint(sig.pulse_us))
+
+
+def test_servo_quantised_angles_are_within_half_a_tick_of_the_command():
     s = _line_stream()
     cal = servo_calibration_from_arm(_bare_default())
     q = quantised_angles(s, servo_pulses(s, cal))
-    # 2000 us over 180 deg: half a microsecond is 0.045 deg.
-    assert np.max(np.abs(np.rad2deg(q - s.q))) <= 0.5 * 180.0 / 2000.0 + 1e-9
-    q_exact = quantised_angles(s, servo_pulses(s, cal, whole_us=False))
+    # 2000 us over 180 deg: half a 1/16 us tick is 0.0028 deg.
+    assert np.max(np.abs(np.rad2deg(q - s.q))) <= 0.5 / 16 * 180.0 / 2000.0 + 1e-9
+    q_exact = quantised_angles(s, servo_pulses(s, cal, tick_us=None))
     np.testing.assert_allclose(q_exact, s.q, atol=1e-9)
 
 
@@ -180,11 +193,14 @@ def test_an_angle_outside_the_table_names_its_motor():
         cal.pulse(0, [-5.0])
 
 
-def test_servo_pulses_refuse_bad_streams_and_give_whole_microseconds():
+def test_servo_pulses_refuse_bad_streams_and_give_whole_ticks():
     from types import SimpleNamespace
-    s = stream_of_deg([[45.0, 90.0], [90.0, 135.0]])
+    s = stream_of_deg([[45.1, 90.0], [90.0, 135.0]])
     sig = servo_pulses(s)
-    assert sig.pulse_us.dtype.kind == "i" and sig.pen_us.dtype.kind == "i"
+    # 45.1 deg on the 500-2500 us / 0-180 deg table: 1001.111 us, to the nearest 1/16
+    assert sig.pulse_us[0, 0] == 1001.125 and sig.pen_us.tolist() == [1700.0, 1700.0]
+    with pytest.raises(InkreachError, match="pulse tick"):
+        servo_pulses(s, tick_us=0.0)
     three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.zeros(2, np.int8))
     with pytest.raises(InkreachError, match="the joint stream must hold two angles per row"):
         servo_pulses(three)

@@ -48,7 +48,8 @@ def firmware_header(stream, servo_signals=None, stepper_signals=None, name="inkr
     Symbols (for ``name="inkreach_plan"``):
 
     * ``INKREACH_PLAN_PERIOD_US``, ``INKREACH_PLAN_ROWS``;
-    * ``inkreach_plan_pulse_us[ROWS][2]`` (``uint16_t``), with
+    * ``inkreach_plan_pulse_ticks[ROWS][2]`` (``uint16_t``, pulse widths in
+      1/16 us, ``INKREACH_PLAN_TICKS_PER_US``), with
       ``INKREACH_PLAN_PEN_UP_US`` and ``INKREACH_PLAN_PEN_DOWN_US``;
     * ``inkreach_plan_steps[ROWS][2]`` (``int32_t``, absolute positions);
     * ``inkreach_plan_pen_bits[(ROWS + 7) / 8]``: row k's pen flag (1 = on
@@ -120,19 +121,22 @@ def firmware_header(stream, servo_signals=None, stepper_signals=None, name="inkr
         "",
     ]
     if servo_signals is not None:
-        p = np.rint(np.asarray(servo_signals.pulse_us, dtype=float)).astype(np.int64)
+        # 1/16 us ticks (a 16-bit timer at 16 MHz), as the reference firmware
+        p = np.rint(np.asarray(servo_signals.pulse_us, dtype=float) * 16).astype(np.int64)
         if len(p) != n:
             raise InkreachError("servo signals and stream differ in rows; make them together")
         if p.min() < 0 or p.max() > 65535:
-            raise InkreachError("a servo pulse does not fit in 16 bits; check the servo table")
+            raise InkreachError("a servo pulse does not fit in 16 bits of 1/16 us (4095 us); "
+                                "check the servo table")
         cal = servo_signals.calibration
         out += [
             f"#define {up}_HAS_PULSES 1",
             f"#define {up}_FRAME_HZ {int(round(cal.frame_hz))}UL",
             f"#define {up}_PEN_UP_US {int(round(cal.pen_up_us))}U",
             f"#define {up}_PEN_DOWN_US {int(round(cal.pen_down_us))}U",
-            "/* servo pulse widths, microseconds: {motor1, motor2} per row */",
-            f"static INKREACH_STORAGE uint16_t {name}_pulse_us[{n}][2] = {{",
+            f"#define {up}_TICKS_PER_US 16U",
+            "/* servo pulse widths, 1/16 us ticks: {motor1, motor2} per row */",
+            f"static INKREACH_STORAGE uint16_t {name}_pulse_ticks[{n}][2] = {{",
             _rows(p),
             "};",
             "",

@@ -99,10 +99,10 @@ def servo_csv(stream, servo_signals):
     str
     """
     p = np.asarray(servo_signals.pulse_us)
-    whole = np.issubdtype(p.dtype, np.integer)
-    f = "%d" if whole else "%.3f"
+    # 1/16 us ticks print exactly with 4 decimals
+    f = "%d" if np.issubdtype(p.dtype, np.integer) else "%.4f"
     pen = np.asarray(servo_signals.pen_us)
-    fp = "%d" if np.issubdtype(pen.dtype, np.integer) else "%.3f"
+    fp = "%d" if np.issubdtype(pen.dtype, np.integer) else "%.4f"
     return _table("t_s,motor1_us,motor2_us,pen_us", [stream.t, p[:, 0], p[:, 1], pen],
                   ["%.4f", f, f, fp])
 

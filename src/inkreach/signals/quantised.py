@@ -20,7 +20,7 @@ def quantised_angles(stream, *signals):
     *signals : StepperSignals, ServoSignals or dict of them
         Stepper positions (angles rounded to whole steps) or servo pulses
         (angles read back through the calibration table, so rounding the
-        pulses to whole microseconds shows). A dict as made by
+        pulses to their tick shows). A dict as made by
         :func:`make_signals` uses its stepper signals when present, else
         its servo signals, else the stream's own angles. An arm given
         before the signals applies its ``[calibration]`` correction, so the

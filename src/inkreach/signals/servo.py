@@ -161,8 +161,8 @@ class ServoSignals:
     Attributes
     ----------
     pulse_us : ndarray, shape (N, 2)
-        Arm motor pulse widths, microseconds (int64 when rounded to whole
-        microseconds, float otherwise).
+        Arm motor pulse widths, microseconds, whole multiples of the tick
+        they were rounded to (1/16 us by default).
     pen_us : ndarray, shape (N,)
         Pen servo pulse width of each row, microseconds.
     calibration : ServoCalibration
@@ -177,7 +177,12 @@ class ServoSignals:
         return len(self.pulse_us)
 
 
-def servo_pulses(stream, cal=None, whole_us=True):
+#: Resolution of servo pulse widths, microseconds: one tick of a 16-bit timer
+#: counting at 16 MHz (62.5 ns), what the reference firmware outputs.
+PULSE_TICK_US = 1.0 / 16.0
+
+
+def servo_pulses(stream, cal=None, tick_us=PULSE_TICK_US):
     """Servo pulse widths for a joint stream.
 
     Each motor's pulse is interpolated linearly between the measured
@@ -189,9 +194,12 @@ def servo_pulses(stream, cal=None, whole_us=True):
     stream : JointStream
     cal : ServoCalibration, optional
         Defaults to ``ServoCalibration()`` (common-practice values).
-    whole_us : bool
-        Round the pulses to whole microseconds (what a microcontroller
-        timer is usually given).
+    tick_us : float or None
+        Round the pulses to whole multiples of this, microseconds: by
+        default 1/16 us, the tick of a 16-bit timer at 16 MHz that the
+        reference firmware drives its servos with (whole microseconds alone
+        move the pen by a tenth of a millimetre or more); 1 for whole
+        microseconds; None for exact values.
 
     Returns
     -------
@@ -217,7 +225,9 @@ def servo_pulses(stream, cal=None, whole_us=True):
     ...                 xy=np.zeros((2, 2)), period=0.01)
     >>> sig = servo_pulses(s)
     >>> sig.pulse_us.tolist(), sig.pen_us.tolist()
-    ([[1000, 1500], [1500, 2000]], [1200, 1700])
+    ([[1000.0, 1500.0], [1500.0, 2000.0]], [1200.0, 1700.0])
+    >>> float(servo_pulses(s, tick_us=None).pulse_us[0, 0] - 1000.0) == 0.0
+    True
     """
     cal = ServoCalibration() if cal is None else cal
     deg = np.rad2deg(np.asarray(stream.q, dtype=float))
@@ -228,9 +238,12 @@ def servo_pulses(stream, cal=None, whole_us=True):
     pulses = np.stack([cal.pulse(0, deg[:, 0]), cal.pulse(1, deg[:, 1])], axis=1)
     pen = np.asarray(stream.pen) != 0
     pen_us = np.where(pen, cal.pen_down_us, cal.pen_up_us)
-    if whole_us:
-        pulses = np.rint(pulses).astype(np.int64)
-        pen_us = np.rint(pen_us).astype(np.int64)
+    if tick_us is not None:
+        if not (np.isfinite(tick_us) and tick_us > 0):
+            raise InkreachError(f"the pulse tick must be a positive number of microseconds, "
+                                f"got {tick_us!r}")
+        pulses = np.rint(pulses / tick_us) * tick_us
+        pen_us = np.rint(pen_us / tick_us) * tick_us
     return ServoSignals(pulse_us=pulses, pen_us=pen_us, calibration=cal)
 
 
