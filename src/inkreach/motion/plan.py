@@ -431,6 +431,54 @@ def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     return np.unique(np.concatenate([bad, bad + 1]))
 
 
+def _coverage_violations(q, pen, stroke, arm, strokes, chord_tol):
+    """Rows around stroke vertices that the drawn path misses by too much.
+
+    The converse of :func:`_chord_violations`: rows may stay near the stroke
+    while the chords between them cut a vertex; the final check wants every
+    vertex within ``chord_tol`` of the drawn path (rows and their joint-space
+    midpoints, in order), so rows around a missed vertex are slowed down.
+    """
+    from scipy.spatial import cKDTree
+
+    kd = np.flatnonzero(pen == 1)
+    if kd.size == 0:
+        return np.zeros(0, int)
+    lab = stroke[kd]
+    pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
+    x = arm.fk(q[kd])
+    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]]))
+    # each stroke's drawn path: row, midpoint, row, ... (midpoints only
+    # between consecutive rows of the same stroke)
+    order = np.concatenate([np.arange(len(kd)) * 2.0, np.flatnonzero(pair) * 2.0 + 1.0])
+    pts = np.concatenate([x, xm[pair]])
+    plab = np.concatenate([lab, lab[:-1][pair]])
+    srt = np.argsort(order, kind="stable")
+    pts, plab = pts[srt], plab[srt]
+    cut = np.flatnonzero(np.diff(plab)) + 1
+    paths = np.split(pts, cut)
+    ids = plab[np.r_[0, cut]]
+    drawn = [np.zeros((0, 2))] * len(strokes)
+    for i, path in zip(ids, paths):
+        drawn[int(i)] = path
+    have = [i for i, d in enumerate(drawn) if len(d)]
+    if not have:
+        return np.zeros(0, int)
+    index = _StrokeIndex([drawn[i] for i in have], chord_tol)
+    verts = np.concatenate([np.asarray(strokes[i], float) for i in have])
+    vlab = np.repeat(np.arange(len(have)), [len(strokes[i]) for i in have])
+    far = index.distance(verts, vlab) > 0.99 * chord_tol
+    if not far.any():
+        return np.zeros(0, int)
+    # the rows nearest each missed vertex, within its own stroke
+    remap = np.full(len(strokes), -1)
+    remap[have] = np.arange(len(have))
+    tree = cKDTree(np.column_stack([x, remap[lab] * 1e7]))
+    _, near = tree.query(np.column_stack([verts[far], vlab[far] * 1e7]))
+    rows = kd[np.asarray(near)]
+    return np.unique(np.concatenate([rows - 1, rows, rows + 1]).clip(0, len(q) - 1))
+
+
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
                 tip_speed=None, region=None, margin=1.0):
     """Plan the joint stream that draws ordered strokes.
@@ -618,6 +666,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             index = _StrokeIndex(S, chord_tol)
         if index is not None:
             rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
+            rows = np.union1d(rows, _coverage_violations(q, pen, stroke, arm, S, chord_tol))
         if rows.size == 0:
             break
         if not _slow_down(f, tv, tau, rows, period):
