@@ -1,0 +1,97 @@
+"""Single key presses from the terminal during ``inkreach run``: pause and continue.
+
+Only when standard input is a terminal and this process is in its foreground:
+the terminal goes to cbreak mode (keys arrive one by one, no echo; Ctrl-C still
+interrupts) and is put back exactly as it was on every way out of the ``with``
+block. Anywhere else (a pipe, a file, a background job) nothing changes and no
+key is ever reported.
+"""
+
+import os
+import select
+import sys
+
+__all__ = ["PAUSE_KEYS", "CONTINUE_KEYS", "QUIT_KEYS", "KeyReader"]
+
+PAUSE_KEYS = b"p "
+CONTINUE_KEYS = b"c"
+QUIT_KEYS = b"q"
+
+
+def _foreground_tty(fd):
+    try:
+        if not os.isatty(fd):
+            return False
+    except (OSError, ValueError):
+        return False
+    try:
+        return os.tcgetpgrp(fd) == os.getpgrp()
+    except OSError:
+        return True     # a terminal that is not our controlling one: no job control to upset
+
+
+class KeyReader:
+    """Context manager reading single keys from ``stream`` (standard input by default).
+
+    Examples
+    --------
+    >>> import io
+    >>> with KeyReader(io.StringIO("p")) as keys:   # not a terminal: inactive
+    ...     keys.active, keys.read()
+    (False, b'')
+    """
+
+    def __init__(self, stream=None):
+        self._stream = sys.stdin if stream is None else stream
+        self._fd = None
+        self._saved = None
+        self.active = False
+
+    def __enter__(self):
+        try:
+            fd = self._stream.fileno()
+        except (AttributeError, OSError, ValueError):
+            return self
+        if not _foreground_tty(fd):
+            return self
+        try:
+            import termios
+            import tty
+            self._saved = termios.tcgetattr(fd)
+            tty.setcbreak(fd, termios.TCSANOW)
+        except (ImportError, OSError):
+            self._saved = None
+            return self
+        self._fd = fd
+        self.active = True
+        return self
+
+    def __exit__(self, *exc):
+        self.restore()
+        return False
+
+    def restore(self):
+        """Put the terminal back as it was (safe to call more than once)."""
+        if self._saved is not None:
+            import termios
+            try:
+                termios.tcsetattr(self._fd, termios.TCSADRAIN, self._saved)
+            except OSError:
+                pass
+            self._saved = None
+        self.active = False
+
+    def read(self, wait=0.0):
+        """The keys pressed so far (waiting up to ``wait`` seconds for one), or b''."""
+        if not self.active:
+            return b""
+        try:
+            ready, _, _ = select.select([self._fd], [], [], wait)
+            return os.read(self._fd, 64) if ready else b""
+        except (OSError, ValueError):
+            return b""
+
+    def pressed(self, keys, wait=0.0):
+        """True when one of ``keys`` (bytes) was among the keys read now."""
+        got = self.read(wait).lower()
+        return any(k in got for k in keys)
