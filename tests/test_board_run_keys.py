@@ -17,7 +17,7 @@ import numpy as np
 import pytest
 
 from test_board_run import (ENV, PY, ROOT, _arm, _assert_within_limits, _coverage,  # noqa: F401
-                            _inkreach, _trace, procs)
+                            _inkreach, _interrupted_then_resumed, _trace, procs)
 
 pty = pytest.importorskip("pty")
 
@@ -150,6 +150,45 @@ def test_pause_stops_with_the_pen_up_and_continue_finishes(plan40, procs, tmp_pa
     assert json.loads((plan / "run-state.json").read_text())["finished"]
     log = (plan / "run-log.txt").read_text()
     assert "paused from the keyboard" in log and "continued from the keyboard" in log
+
+
+def _start_paused_mid_stroke(plan40, procs, tmp_path):
+    import shutil
+    plan = tmp_path / plan40.name
+    shutil.copytree(plan40, plan)
+    trace = tmp_path / "trace.csv"
+    _, port = procs.board("default", trace, speedup="10")
+    return plan, trace, port
+
+
+def test_pause_then_q_ends_resumably(plan40, procs, tmp_path):
+    plan, trace, port = _start_paused_mid_stroke(plan40, procs, tmp_path)
+    tty = _Tty(["run", plan, "--port", port])
+    try:
+        _wait_rows(trace, 200, tty)
+        os.write(tty.fd, b" ")                 # the space bar pauses too
+        tty.wait_for("press c to continue")
+        os.write(tty.fd, b"q")
+        assert tty.wait_exit() == 130, tty.text()[-800:]
+        assert "--resume" in tty.text().strip().splitlines()[-1]
+        assert tty.lflag() & termios.ICANON and tty.lflag() & termios.ECHO
+    finally:
+        tty.close()
+    assert "ended while paused" in (plan / "run-log.txt").read_text()
+    _interrupted_then_resumed(plan, trace, port, "default", 130)
+
+
+def test_sigterm_puts_the_terminal_back(plan40, procs, tmp_path):
+    plan, trace, port = _start_paused_mid_stroke(plan40, procs, tmp_path)
+    tty = _Tty(["run", plan, "--port", port])
+    try:
+        _wait_rows(trace, 100, tty)
+        assert not tty.lflag() & termios.ICANON
+        os.kill(tty.pid, signal.SIGTERM)
+        assert tty.wait_exit() == -signal.SIGTERM     # it still ends as SIGTERM ends it
+        assert tty.lflag() & termios.ICANON and tty.lflag() & termios.ECHO
+    finally:
+        tty.close()
 
 
 def test_key_reader_restores_the_terminal_on_every_way_out():

@@ -3,8 +3,8 @@
 Only when standard input is a terminal and this process is in its foreground:
 the terminal goes to cbreak mode (keys arrive one by one, no echo; Ctrl-C still
 interrupts) and is put back exactly as it was on every way out of the ``with``
-block. Anywhere else (a pipe, a file, a background job) nothing changes and no
-key is ever reported.
+block, and before the process ends on SIGTERM or SIGHUP. Anywhere else (a pipe,
+a file, a background job) nothing changes and no key is ever reported.
 """
 
 import os
@@ -64,7 +64,25 @@ class KeyReader:
             return self
         self._fd = fd
         self.active = True
+        self._catch_ending_signals()
         return self
+
+    def _catch_ending_signals(self):
+        """On SIGTERM or SIGHUP, restore the terminal first, then end as before."""
+        import signal
+        self._old_handlers = {}
+        try:
+            for sig in (signal.SIGTERM, signal.SIGHUP):
+                if signal.getsignal(sig) == signal.SIG_DFL:
+                    self._old_handlers[sig] = signal.signal(sig, self._on_ending_signal)
+        except (ValueError, AttributeError):   # not the main thread, or no such signal
+            pass
+
+    def _on_ending_signal(self, sig, _frame):
+        import signal
+        self.restore()
+        signal.signal(sig, signal.SIG_DFL)
+        os.kill(os.getpid(), sig)
 
     def __exit__(self, *exc):
         self.restore()
@@ -72,6 +90,15 @@ class KeyReader:
 
     def restore(self):
         """Put the terminal back as it was (safe to call more than once)."""
+        if getattr(self, "_old_handlers", None):
+            import signal
+            for sig, old in self._old_handlers.items():
+                try:
+                    if signal.getsignal(sig) == self._on_ending_signal:
+                        signal.signal(sig, old)
+                except ValueError:
+                    pass
+            self._old_handlers = {}
         if self._saved is not None:
             import termios
             try:
