@@ -13,11 +13,11 @@ import sys
 import termios
 import time
 
-import numpy as np
 import pytest
 
-from test_board_run import (ENV, PY, ROOT, _arm, _assert_within_limits, _coverage,  # noqa: F401
-                            _inkreach, _interrupted_then_resumed, _trace, procs)
+from test_board_run import (ENV, PY, _arm, _assert_within_limits, _coverage,  # noqa: F401
+                            _interrupted_then_resumed, _mid_longest_stroke,
+                            _plan, _trace, procs)
 
 pty = pytest.importorskip("pty")
 
@@ -27,13 +27,8 @@ TIMEOUT = 60.0     # our bound on any single wait, generous for a busy shared ma
 
 
 @pytest.fixture(scope="module")
-def plan40(tmp_path_factory):
-    # The shipped emblem, centre line, 40 mm on the desk five-bar (about 700 rows).
-    out = tmp_path_factory.mktemp("plans") / "plan-default"
-    r = _inkreach("plan", ROOT / "demo_images" / "emblem.png", "--style", "centerline",
-                  "--size", "40", "--arm", "default", "--out", out, "-q")
-    assert r.returncode == 0, r.stderr
-    return out
+def servo_plan(tmp_path_factory):
+    return _plan(tmp_path_factory.mktemp("plans"), "default")   # as test_board_run's
 
 
 class _Tty:
@@ -104,21 +99,15 @@ def _wait_rows(path, n, tty, timeout=TIMEOUT):
     raise AssertionError(f"fewer than {n} trace rows after {timeout} s")
 
 
-def test_pause_stops_with_the_pen_up_and_continue_finishes(plan40, procs, tmp_path):
+def test_pause_stops_with_the_pen_up_and_continue_finishes(servo_plan, procs, tmp_path):
     import shutil
-    plan = tmp_path / plan40.name
-    shutil.copytree(plan40, plan)
+    plan = tmp_path / servo_plan.name
+    shutil.copytree(servo_plan, plan)
     trace = tmp_path / "trace.csv"
     _, port = procs.board("default", trace, speedup="10")
     tty = _Tty(["run", plan, "--port", port])
     try:
-        # press p in the middle of the plan's longest pen-down run
-        pen = np.loadtxt(plan / "joints.csv", delimiter=",", skiprows=1, ndmin=2)[:, 3]
-        edges = np.diff(np.concatenate([[0], (pen == 1).astype(int), [0]]))
-        a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
-        k = np.argmax(b - a)
-        assert b[k] - a[k] > 100
-        _wait_rows(trace, int(a[k] + b[k]) // 2 - 20, tty)
+        _wait_rows(trace, _mid_longest_stroke(plan), tty)   # p lands mid-stroke
         # cbreak while running: keys come one by one, not echoed (termios(3))
         assert not tty.lflag() & (termios.ICANON | termios.ECHO)
         os.write(tty.fd, b"p")
@@ -152,17 +141,17 @@ def test_pause_stops_with_the_pen_up_and_continue_finishes(plan40, procs, tmp_pa
     assert "paused from the keyboard" in log and "continued from the keyboard" in log
 
 
-def _start_paused_mid_stroke(plan40, procs, tmp_path):
+def _start_paused_mid_stroke(servo_plan, procs, tmp_path):
     import shutil
-    plan = tmp_path / plan40.name
-    shutil.copytree(plan40, plan)
+    plan = tmp_path / servo_plan.name
+    shutil.copytree(servo_plan, plan)
     trace = tmp_path / "trace.csv"
     _, port = procs.board("default", trace, speedup="10")
     return plan, trace, port
 
 
-def test_pause_then_q_ends_resumably(plan40, procs, tmp_path):
-    plan, trace, port = _start_paused_mid_stroke(plan40, procs, tmp_path)
+def test_pause_then_q_ends_resumably(servo_plan, procs, tmp_path):
+    plan, trace, port = _start_paused_mid_stroke(servo_plan, procs, tmp_path)
     tty = _Tty(["run", plan, "--port", port])
     try:
         _wait_rows(trace, 200, tty)
@@ -178,8 +167,8 @@ def test_pause_then_q_ends_resumably(plan40, procs, tmp_path):
     _interrupted_then_resumed(plan, trace, port, "default", 130)
 
 
-def test_sigterm_puts_the_terminal_back(plan40, procs, tmp_path):
-    plan, trace, port = _start_paused_mid_stroke(plan40, procs, tmp_path)
+def test_sigterm_puts_the_terminal_back(servo_plan, procs, tmp_path):
+    plan, trace, port = _start_paused_mid_stroke(servo_plan, procs, tmp_path)
     tty = _Tty(["run", plan, "--port", port])
     try:
         _wait_rows(trace, 100, tty)
