@@ -219,3 +219,19 @@ def test_help_lists_keys_and_exit_status():
                          text=True, timeout=60).stdout
     for word in ("p or space", "pause", "continue", "130", "exit status"):
         assert word in out, word
+
+
+def test_key_reader_stops_when_the_terminal_goes_away():
+    # Linux pty(7): once the master side is closed, reading the slave gives EIO or
+    # end of file; the reader then reports no more keys instead of spinning.
+    master, slave = pty.openpty()
+    try:
+        with open(slave, "rb", buffering=0, closefd=False) as f, KeyReader(f) as keys:
+            assert keys.active
+            os.close(master)
+            master = None
+            assert keys.read(5.0) == b"" and not keys.active
+    finally:
+        if master is not None:
+            os.close(master)
+        os.close(slave)

@@ -57,9 +57,12 @@ class KeyReader:
         try:
             import termios
             import tty
+        except ImportError:      # not a POSIX system: no single keys
+            return self
+        try:
             self._saved = termios.tcgetattr(fd)
             tty.setcbreak(fd, termios.TCSANOW)
-        except (ImportError, OSError):
+        except (OSError, termios.error):
             self._saved = None
             return self
         self._fd = fd
@@ -103,7 +106,7 @@ class KeyReader:
             import termios
             try:
                 termios.tcsetattr(self._fd, termios.TCSADRAIN, self._saved)
-            except OSError:
+            except (OSError, termios.error):   # a terminal gone: nothing to put back
                 pass
             self._saved = None
         self.active = False
@@ -114,9 +117,14 @@ class KeyReader:
             return b""
         try:
             ready, _, _ = select.select([self._fd], [], [], wait)
-            return os.read(self._fd, 64) if ready else b""
+            if not ready:
+                return b""
+            got = os.read(self._fd, 64)
         except (OSError, ValueError):
-            return b""
+            got = b""
+        if not got:            # end of input or a terminal gone: no more keys
+            self.restore()
+        return got
 
     def pressed(self, keys, wait=0.0):
         """True when one of ``keys`` (bytes) was among the keys read now."""
