@@ -59,13 +59,13 @@ class KeyReader:
             import tty
         except ImportError:      # not a POSIX system: no single keys
             return self
+        self._fd = fd
         try:
             self._saved = termios.tcgetattr(fd)
             tty.setcbreak(fd, termios.TCSANOW)
         except (OSError, termios.error):
-            self._saved = None
+            self.restore()       # undo whatever part of cbreak mode took
             return self
-        self._fd = fd
         self.active = True
         self._catch_ending_signals()
         return self
