@@ -1,6 +1,7 @@
 """Building and driving the board's C core for the board tests."""
 
 import os
+import struct
 import subprocess
 
 import pytest
@@ -8,10 +9,25 @@ import pytest
 from inkreach.arms import load_arm, parse_arm
 from inkreach.board import _build
 from inkreach.board.firmware_config import board_config, config_header
-from inkreach.board.sim_codec import FrameReader, parse_message
+from inkreach.board.protocol import FrameReader, decode_message, encode_samples, frame
 
 HERE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "board_c")
 NONE = 0xFFFFFFFF
+
+
+def host_frame(kind, seq, value=None):
+    """Wire bytes of an H, G, X or Q frame (no body) or a B or E frame (a u32 body)."""
+    return frame(kind.encode("ascii"), seq, b"" if value is None else struct.pack("<I", value))
+
+
+def samples_frame(seq, first, rows):
+    """Wire bytes of an S frame; ``rows`` are 1 to 5 (q1, q2, pen) in angle units."""
+    return encode_samples(seq, first, [r[:2] for r in rows], [r[2] for r in rows])
+
+
+def parse_frames(reader, data):
+    """The board messages (None for an unknown one) in the frames ``data`` completes."""
+    return [decode_message(t, body) for t, _seq, body in reader.feed(data)]
 
 
 def need_compiler():
@@ -63,8 +79,8 @@ class Core:
                 ticks.append(dict(zip(("q1", "q2", "pen", "state", "moved", "fault", "done"),
                                       v)))
             elif kind == "W":
-                for p in reader.feed(bytes.fromhex(rest)):
-                    msgs.append((len(ticks), parse_message(p)))
+                for m in parse_frames(reader, bytes.fromhex(rest)):
+                    msgs.append((len(ticks), m))
         return ticks, msgs
 
 

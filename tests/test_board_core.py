@@ -11,9 +11,9 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from inkreach.arms import arm_to_toml, load_arm
-from inkreach.board.sim_codec import Fault, Gap, Identity, Status, host_frame, samples_frame
+from inkreach.board.protocol import Fault, Gap, Identity, Status
 
-from _board import NONE, Core, arm_with
+from _board import NONE, Core, arm_with, host_frame, samples_frame
 
 # The built-in default arm file: theta1 [30, 210] deg, theta2 [-30, 150] deg,
 # 180 deg/s, 1500 deg/s^2, home [120, 60]; period 20 ms.

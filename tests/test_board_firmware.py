@@ -12,7 +12,7 @@ import pytest
 from inkreach import InkreachError
 from inkreach.arms import arm_to_toml, load_arm
 from inkreach.board import board_config, config_header, write_firmware
-from inkreach.board.sim_codec import cobs_decode, cobs_encode, crc16
+from inkreach.board.protocol import cobs_decode, cobs_encode, crc16
 
 from _board import HERE, need_compiler
 

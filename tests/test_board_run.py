@@ -1,7 +1,7 @@
 """`inkreach run` against the simulated board, in real processes: streams, faults, refusals.
 
 Every process is bounded in time and killed in ``finally``. The plans are
-small (the shipped emblem, centre line, 30 mm) so a run takes about a second
+small (the shipped emblem, centre line, 40 mm) so a run takes about a second
 of wall time at ``--speedup 20``.
 """
 
@@ -110,7 +110,7 @@ def _finish(p, timeout=60):
 def _plan(tmp, arm):
     out = tmp / f"plan-{arm}"
     r = _inkreach("plan", ROOT / "demo_images" / "emblem.png", "--style", "centerline",
-                  "--size", "30", "--arm", arm, "--out", out, "-q")
+                  "--size", "40", "--arm", arm, "--out", out, "-q")
     assert r.returncode == 0, r.stderr
     return out
 
@@ -280,6 +280,34 @@ def _wait_trace_rows(path, n, proc, timeout=60):
     raise AssertionError(f"fewer than {n} trace rows after {timeout} s")
 
 
+def _mid_longest_stroke(plan, lead=20, timeout=60):
+    """The trace row ``lead`` rows before the middle of the plan's longest pen-down run
+    among those ending 100 rows or more before the plan's end, in the stream a fresh
+    run is sending (read from run-state.json once the run has written it: a pen-up
+    approach may come first).
+
+    Waiting for that many trace rows and then stopping lands the stop mid-stroke,
+    with plan rows after that stroke that a resume sends unchanged (the last 40 rows
+    are compared in ``_interrupted_then_resumed``).
+    """
+    pen = _rows(plan)[:, 3]
+    edges = np.diff(np.concatenate([[0], (pen == 1).astype(int), [0]]))
+    a, b = np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)
+    keep = b <= len(pen) - 100
+    a, b = a[keep], b[keep]
+    k = np.argmax(b - a)
+    assert b[k] - a[k] > 80, "the test plan needs a stroke of more than 80 rows"
+    end = time.monotonic() + timeout
+    while True:
+        try:
+            sm = json.loads((plan / "run-state.json").read_text())["stream"]
+            break
+        except (OSError, ValueError, KeyError):
+            assert time.monotonic() < end, "the run wrote no run-state.json"
+            time.sleep(0.01)
+    return len(sm["prefix_pen"]) - sm["tail_from"] + int(a[k] + b[k]) // 2 - lead
+
+
 def _wait_still(path, timeout=30):
     """Until the trace stops growing (the board is at rest)."""
     end = time.monotonic() + timeout
@@ -370,7 +398,7 @@ def test_ctrl_c_stops_with_the_pen_up_and_resume_finishes(plans, procs, tmp_path
     trace = tmp_path / "trace.csv"
     _, port = procs.board("default", trace, speedup="10")
     run = procs.run(plan, port)
-    _wait_trace_rows(trace, 300, run)
+    _wait_trace_rows(trace, _mid_longest_stroke(plan), run)
     run.send_signal(signal.SIGINT)
     rc, err = _finish(run)
     assert rc == 130, err
@@ -438,7 +466,7 @@ def test_stepper_ctrl_c_then_resume(plans, procs, tmp_path):
     trace = tmp_path / "trace.csv"
     _, port = procs.board("serial", trace, "stepper", speedup="10")
     run = procs.run(plan, port)
-    _wait_trace_rows(trace, 300, run)
+    _wait_trace_rows(trace, _mid_longest_stroke(plan), run)
     run.send_signal(signal.SIGINT)
     rc, err = _finish(run)
     assert rc == 130, err

@@ -16,10 +16,9 @@ serial = pytest.importorskip("serial")
 
 from inkreach.arms import arm_to_toml, load_arm
 from inkreach.board import executed_angles
-from inkreach.board.sim_codec import (Fault, FrameReader, Identity, Status, host_frame,
-                                      parse_message, samples_frame)
+from inkreach.board.protocol import Fault, FrameReader, Identity, Status
 
-from _board import need_compiler
+from _board import host_frame, need_compiler, parse_frames, samples_frame
 
 TIMEOUT = 30.0   # our bound on any single wait, generous for a busy shared machine
 
@@ -62,8 +61,7 @@ class Board:
                 self.proc.wait(10)
 
     def _read(self):
-        for p in self.reader.feed(self.line.read(512)):
-            m = parse_message(p)
+        for m in parse_frames(self.reader, self.line.read(512)):
             if m is not None:
                 self.seen.append(m)
 

@@ -24,6 +24,22 @@ _EPILOG = """examples:
   inkreach run my-plan --port /dev/ttyACM0
   inkreach run my-plan --port /dev/ttyACM0 --resume   # after Ctrl-C or a fault
 
+keys (only when standard input is a terminal):
+  p or space   pause: controlled stop (pen up, slowing within the acceleration
+               limit), then wait with the arm still
+  c            continue after a pause: pen-up approach along a checked path to
+               where it stopped, pen down, and on (the --resume path)
+  q            while paused: end the run here (continue later with --resume)
+  Ctrl-C       controlled stop with the pen up, then exit
+
+exit status:
+  0    the plan was drawn to the end; the arm is at rest with the pen up
+  1    the board stopped on a fault, restarted, or stopped answering (pen up);
+       continue with --resume
+  2    refused before anything moved (failed safety check, another arm or
+       protocol version, no board, bad options)
+  130  stopped on request (Ctrl-C, or q while paused); continue with --resume
+
 Safety: rehearse with the pen lifted and the arm unloaded, keep hands clear and a
 power switch within reach. Ctrl-C stops the arm in a controlled way with the pen up."""
 
@@ -126,13 +142,71 @@ def _progress(total, initial):
                            "[{elapsed} elapsed, {remaining} left]")
 
 
+_PAUSED = -1
+
+
 def run_plan(folder, port, *, rehearse=False, resume=False):
-    """Check, hand-shake and stream a saved plan; returns the exit status."""
+    """Check, hand-shake and stream a saved plan; returns the exit status.
+
+    When standard input is a terminal, ``p`` (or space) pauses: the same
+    controlled stop as Ctrl-C, then a wait; ``c`` continues along the path
+    ``--resume`` takes (a checked pen-up approach, pen down, on), and ``q``
+    or Ctrl-C while paused ends the run (exit status 130, resumable later).
+    """
+    from .keys import KeyReader
+
+    folder = os.fspath(folder)
+    with KeyReader() as keys:
+        while True:
+            code = _run_once(folder, port, rehearse, resume, keys)
+            if code != _PAUSED:
+                return code
+            if not _wait_to_continue(keys):
+                _log(folder, "ended while paused; pen up")
+                print(f"inkreach: stopped with the pen up; continue with: inkreach run "
+                      f"{folder} --port {port} --resume", file=sys.stderr)
+                return 130
+            _log(folder, "continued from the keyboard")
+            resume = True
+
+
+def _wait_to_continue(keys):
+    """Wait for ``c`` (True) or ``q`` / Ctrl-C (False) while the arm stands still."""
+    from .keys import CONTINUE_KEYS, QUIT_KEYS
+    try:
+        while True:
+            got = keys.read(0.2).lower()
+            for b in got:
+                if bytes([b]) in CONTINUE_KEYS:
+                    return True
+                if bytes([b]) in QUIT_KEYS:
+                    return False
+            if not keys.active:      # the terminal went away: do not wait for ever
+                return False
+    except KeyboardInterrupt:
+        return False
+
+
+class _PauseKey:
+    """``should_stop`` hook: true once ``p`` or space was pressed."""
+
+    def __init__(self, keys):
+        self.keys = keys
+        self.hit = False
+
+    def __call__(self):
+        from .keys import PAUSE_KEYS
+        if not self.hit and self.keys.active and self.keys.pressed(PAUSE_KEYS):
+            self.hit = True
+        return self.hit
+
+
+def _run_once(folder, port, rehearse, resume, keys):
+    """One stream from a fresh check and hand-shake; exit status or ``_PAUSED``."""
     from ..check import check_plan
     from . import resume as R
     from .stream import Link, handshake, query, stop_board, stream_samples
 
-    folder = os.fspath(folder)
     chk = check_plan(folder)
     if not chk.ok:
         raise InkreachError(f"the plan in {folder} fails the safety check, nothing was sent: "
@@ -234,6 +308,7 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
                      f"{len(units)} samples, board {ident.name!r} drive {ident.drive}")
 
         stop = _Interrupt()
+        pause = _PauseKey(keys)
         old = signal.signal(signal.SIGINT, stop)
         bar = _progress(len(units), 0)
         last_write = [0.0]
@@ -252,7 +327,7 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
 
         try:
             out = stream_samples(link, units, pen_send, base, on_done=on_done,
-                                 should_stop=lambda: stop.hit)
+                                 should_stop=lambda: stop.hit or pause())
         except BaseException:
             stop_board(link)      # whatever went wrong here, the arm stops first
             raise
@@ -271,6 +346,11 @@ def run_plan(folder, port, *, rehearse=False, resume=False):
             print(f"finished: {len(units)} samples executed; the arm is at rest with the pen "
                   "up")
             return 0
+        if out.kind == "interrupted" and pause.hit and not stop.hit:
+            _log(folder, f"paused from the keyboard after {row_txt}; pen up")
+            print(f"inkreach: paused with the pen up after {row_txt}; press c to continue, "
+                  "q to stop here", file=sys.stderr)
+            return _PAUSED
         if out.kind == "interrupted":
             _log(folder, f"stopped on request after {row_txt}; pen up")
             print(f"inkreach: stopped with the pen up after {row_txt}; continue with: {again}",
