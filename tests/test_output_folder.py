@@ -242,7 +242,13 @@ def test_ctrl_c_while_starting_exits_quietly_with_130(pic, tmp_path):
         time.sleep(rng.uniform(0.05, 0.6))
         proc.send_signal(signal.SIGINT)
         _, err = proc.communicate(timeout=60)
-        # -SIGINT only if the signal beat the interpreter's own start-up
+        # A signal that beats the interpreter's own start-up (before the
+        # package's first line runs) is Python's to report: -SIGINT, or its
+        # KeyboardInterrupt from runpy with no frame of ours. Past that point
+        # the exit is quiet.
+        before_us = "Traceback" in err and "inkreach" not in err.replace("-m inkreach", "")
+        if before_us:
+            continue
         assert proc.returncode in (130, -signal.SIGINT, 0), (proc.returncode, err)
         assert "Traceback" not in err and len(err.strip().splitlines()) <= 1, err
         assert not (tmp_path / "out").exists() or _is_complete_plan(tmp_path / "out")

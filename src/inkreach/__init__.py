@@ -9,16 +9,20 @@ stays quick and a command pays only for the libraries it needs.
 'five-bar'
 """
 
-import importlib
 import sys
-import types
 
 if sys.argv[:1] == ["-m"] or (sys.argv[:1]
                              and sys.argv[0].endswith(("/inkreach", "\\inkreach"))):
     # started as a command: Ctrl-C while the libraries load stops quietly
     # (status 130); the command line takes Ctrl-C over once it runs
-    from ._startup import quiet_interrupts as _quiet
-    _quiet()
+    try:
+        from ._startup import quiet_interrupts as _quiet
+        _quiet()
+    except KeyboardInterrupt:  # before the quiet handler was in place
+        raise SystemExit(130) from None
+
+import importlib  # noqa: E402
+import types  # noqa: E402
 
 from .errors import InkreachError
 

@@ -212,15 +212,27 @@ def _version():
     return f"inkreach {__version__}"
 
 
+def _preload(command):
+    """Load the heavy libraries a command needs while Ctrl-C still stops quietly.
+
+    numpy turns an interrupt during its own import into an ImportError, so
+    they are loaded under the start-up handler, not later in the command.
+    """
+    import numpy  # noqa: F401
+    if command in ("plan", "demo", "check", "run"):
+        from . import plan  # noqa: F401
+
+
 def main(argv=None):
     """Run the command line; returns the exit status."""
     from ._startup import normal_interrupts
-    normal_interrupts()
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
+        _preload(args.command)
     except KeyboardInterrupt:  # stopped while starting: nothing to say
         return 130
+    normal_interrupts()
     if args.command is None:
         parser.print_help()
         return 0
