@@ -5,34 +5,25 @@ import logging
 import threading
 from concurrent.futures import ThreadPoolExecutor
 from contextlib import asynccontextmanager
-from importlib import resources
 
 from fastapi import FastAPI, Request
-from fastapi.exceptions import RequestValidationError
-from fastapi.responses import FileResponse, JSONResponse, Response
+from fastapi.responses import JSONResponse
 from starlette.datastructures import UploadFile
-from starlette.exceptions import HTTPException as StarletteHTTPException
 
-from ..errors import InkreachError
 from ..vector import looks_like_svg
 from .catalogue import common_options, style_table
-from .errors import Abandoned, ApiError, error_response, jsonable
+from .errors import Abandoned, ApiError, add_error_handlers, error_response, jsonable
+from .files import add_download_routes, add_page_routes
 from .forms import parse_options
 from .jobs import PROGRESS_ID, Progress, default_planner, resolve_upload_arm, unless_abandoned
 from .preview import preview_data
-from .store import PlanStore, content_type
+from .store import PlanStore
 from .uploads import MAX_ARM_BYTES, field_text, parse_form, read_body, sniff_picture
 
 __all__ = ["create_app"]
 
 _log = logging.getLogger("inkreach.web")
 
-_STATIC = {
-    "index.html": "text/html; charset=utf-8",
-    "app.js": "text/javascript; charset=utf-8",
-    "style.css": "text/css; charset=utf-8",
-    "favicon.svg": "image/svg+xml",
-}
 _CSP = ("default-src 'self'; img-src 'self' data: blob:; style-src 'self'; "
         "script-src 'self'; connect-src 'self'; object-src 'none'; base-uri 'none'; "
         "frame-ancestors 'none'; form-action 'self'")
@@ -122,69 +113,10 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         response.headers.setdefault("Referrer-Policy", "no-referrer")
         return response
 
-    @app.exception_handler(ApiError)
-    async def _api_error(request, exc):
-        return error_response(exc.status, exc.message, exc.headers)
-
-    @app.exception_handler(InkreachError)
-    async def _user_error(request, exc):
-        return error_response(400, exc)
-
-    @app.exception_handler(StarletteHTTPException)
-    async def _http_error(request, exc):
-        msg = {404: "not found", 405: "method not allowed"}.get(exc.status_code, exc.detail)
-        return error_response(exc.status_code, msg)
-
-    @app.exception_handler(RequestValidationError)
-    async def _validation_error(request, exc):
-        return error_response(400, "the request is not valid; check its fields")
-
-    @app.exception_handler(OSError)
-    async def _environment(request, exc):
-        from ..cli_errors import environment_message
-        _log.warning("environment error: %s", exc)
-        return error_response(503, environment_message(exc))
-
-    @app.exception_handler(MemoryError)
-    async def _memory(request, exc):
-        from ..cli_errors import environment_message
-        return error_response(503, environment_message(exc))
-
-    @app.exception_handler(Abandoned)
-    async def _abandoned(request, exc):
-        return error_response(400, "the request was abandoned")
-
-    @app.exception_handler(Exception)
-    async def _unexpected(request, exc):
-        _log.exception("unexpected error")
-        return error_response(500, f"internal error: {type(exc).__name__}; "
-                                   "the server is still running, try again")
+    add_error_handlers(app, _log)
 
     # ---- the page -------------------------------------------------------------
-    static = resources.files("inkreach.web").joinpath("static")
-
-    def _static(name):
-        ref = static.joinpath(name)
-        try:
-            data = ref.read_bytes()
-        except (FileNotFoundError, IsADirectoryError, OSError):
-            raise ApiError(404, "not found") from None
-        return Response(data, media_type=_STATIC[name],
-                        headers={"Cache-Control": "no-cache"})
-
-    @app.get("/", include_in_schema=False)
-    async def index():
-        return _static("index.html")
-
-    @app.get("/static/{name}", include_in_schema=False)
-    async def static_file(name: str):
-        if name not in _STATIC:
-            raise ApiError(404, "not found")
-        return _static(name)
-
-    @app.get("/favicon.ico", include_in_schema=False)
-    async def favicon():
-        return _static("favicon.svg")
+    add_page_routes(app)
 
     # ---- the API --------------------------------------------------------------
     @app.get("/api/arms")
@@ -297,26 +229,6 @@ def create_app(tmp_root=None, max_upload_bytes=25_000_000, max_pixels=40_000_000
         report("done", 1, 1)
         return out
 
-    @app.get("/api/plans/{pid}")
-    async def get_plan(pid: str):
-        p = plans.get(pid)
-        if p is None:
-            raise ApiError(404, "no such plan; it may have been removed to make room")
-        return {"id": p.id,
-                "files": {n: f"/api/plans/{p.id}/files/{n}" for n in p.files}}
-
-    @app.get("/api/plans/{pid}/files/{name}")
-    async def get_file(pid: str, name: str, inline: int = 0):
-        p = plans.get(pid)
-        if p is None:
-            raise ApiError(404, "no such plan; it may have been removed to make room")
-        path = p.files.get(name)
-        if path is None:
-            raise ApiError(404, f"this plan has no file {name[:60]!r}")
-        disp = "inline" if inline else "attachment"
-        return FileResponse(path, media_type=content_type(name),
-                            headers={"Content-Disposition":
-                                     f'{disp}; filename="inkreach-{pid[:6]}-{name}"',
-                                     "Cache-Control": "no-store"})
+    add_download_routes(app, plans)
 
     return app

@@ -1,9 +1,13 @@
 """The API's answers when something is wrong, and values made fit for JSON."""
 
 import numpy as np
+from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
+from starlette.exceptions import HTTPException as StarletteHTTPException
 
-__all__ = ["ApiError", "Abandoned", "one_line", "error_response", "jsonable"]
+from ..errors import InkreachError
+
+__all__ = ["ApiError", "Abandoned", "one_line", "error_response", "jsonable", "add_error_handlers"]
 
 
 class ApiError(Exception):
@@ -37,3 +41,45 @@ def jsonable(v):
     if isinstance(v, float) and not np.isfinite(v):
         return None
     return v
+
+
+def add_error_handlers(app, log):
+    """Answer every error as one JSON line ``{"error": ...}`` with its status."""
+
+    @app.exception_handler(ApiError)
+    async def _api_error(request, exc):
+        return error_response(exc.status, exc.message, exc.headers)
+
+    @app.exception_handler(InkreachError)
+    async def _user_error(request, exc):
+        return error_response(400, exc)
+
+    @app.exception_handler(StarletteHTTPException)
+    async def _http_error(request, exc):
+        msg = {404: "not found", 405: "method not allowed"}.get(exc.status_code, exc.detail)
+        return error_response(exc.status_code, msg)
+
+    @app.exception_handler(RequestValidationError)
+    async def _validation_error(request, exc):
+        return error_response(400, "the request is not valid; check its fields")
+
+    @app.exception_handler(OSError)
+    async def _environment(request, exc):
+        from ..cli_errors import environment_message
+        log.warning("environment error: %s", exc)
+        return error_response(503, environment_message(exc))
+
+    @app.exception_handler(MemoryError)
+    async def _memory(request, exc):
+        from ..cli_errors import environment_message
+        return error_response(503, environment_message(exc))
+
+    @app.exception_handler(Abandoned)
+    async def _abandoned(request, exc):
+        return error_response(400, "the request was abandoned")
+
+    @app.exception_handler(Exception)
+    async def _unexpected(request, exc):
+        log.exception("unexpected error")
+        return error_response(500, f"internal error: {type(exc).__name__}; "
+                                   "the server is still running, try again")
