@@ -1,13 +1,12 @@
 """The planner's stages one by one, timed, for the benchmark.
 
-`run_stages` follows the same steps as :func:`inkreach.plan.plan` (load,
-trace, merge, place, route, motion, check) so each can be timed on its own
-and its outputs kept; `end_to_end` times the real planner and its export.
+`run_stages` makes the same public stage calls as :func:`inkreach.plan.plan`
+on a picture (load, trace, merge, place, route, motion, check, signals) with
+the default options, timing each and keeping its output; `end_to_end` times
+the real planner and its export (:func:`inkreach.export.plan_files`).
 """
 
 import time
-
-import numpy as np
 
 T = time.perf_counter
 
@@ -37,54 +36,43 @@ def run_stages(image, style, arm=None, wmap=None, max_side=1200):
     """Run every stage once, as the planner does; returns (seconds by stage, outputs)."""
     from inkreach.arms import default_arm, workspace_map
     from inkreach.motion import check_stream, plan_motion
-    from inkreach.place import place_drawing, provisional_scale
-    from inkreach.plan import joint_order_budget
-    from inkreach.route import merge_strokes, order_strokes, reorder_joint_space
-    from inkreach.trace import load_image, trace
+    from inkreach.place import drawing_region, pen_width_px, place_drawing
+    from inkreach.route import merge_strokes, route_strokes, start_posture
+    from inkreach.signals import checked_signals, reached_positions
+    from inkreach.trace import load_image, merge_tolerance, trace_picture
 
     arm = default_arm() if arm is None else arm
     times = {}
-    if wmap is None:
+
+    def timed(stage, fn, *args, **kw):
         t = T()
-        wmap = workspace_map(arm)
-        times["arm map"] = T() - t
+        out = fn(*args, **kw)
+        times[stage] = T() - t
+        return out
+
+    if wmap is None:
+        wmap = timed("arm map", workspace_map, arm)
+    pic = timed("load", load_image, image, max_side=max_side)
+    pen_px = pen_width_px(pic, arm, wmap=wmap)
+    strokes = timed("trace", trace_picture, pic, style, pen_px=pen_px)
+    merged = timed("merge", merge_strokes, strokes, tol=merge_tolerance(pic))
     t = T()
-    pic = load_image(image, max_side=max_side)
-    times["load"] = T() - t
-    W, H = pic.original_size
-    s0 = provisional_scale((W, H), arm, wmap=wmap)
-    pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
-    t = T()
-    strokes_w = trace(pic.luminance, style, pen_px=pen_px)
-    times["trace"] = T() - t
-    strokes_o = [pic.to_original(s) for s in strokes_w]
-    t = T()
-    strokes_o = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
-    times["merge"] = T() - t
-    t = T()
-    placement = place_drawing(strokes_o, arm, wmap=wmap, image_size=(W, H))
-    strokes_mm = placement.apply_all(strokes_o)
+    placement = place_drawing(merged, arm, wmap=wmap, image_size=pic.original_size)
+    strokes_mm = placement.apply_all(merged)
     times["place"] = T() - t
-    q0 = arm.home()
-    if q0 is None:
-        q0 = arm.ik(placement.hull.mean(0))
-    start = arm.fk(q0)
+    q0 = start_posture(arm, placement)
+    route = timed("route", route_strokes, strokes_mm, arm, q0)
+    stream = timed("motion", plan_motion, route.strokes, arm, start=q0, end=q0,
+                   region=drawing_region(placement))
+    report = timed("check", check_stream, stream, arm, strokes=route.strokes,
+                   tip_speed=stream.tip_speed)
     t = T()
-    r = order_strokes(strokes_mm, start=start)
-    # the planner's budget for the joint-space pass (inkreach.plan.plan)
-    r = reorder_joint_space(r, arm, start_q=q0,
-                            time_budget=joint_order_budget(len(r.strokes)))
-    times["route"] = T() - t
-    region = placement.hull if len(placement.hull) >= 3 else None
-    t = T()
-    stream = plan_motion(r.strokes, arm, start=q0, end=q0, region=region)
-    times["motion"] = T() - t
-    t = T()
-    report = check_stream(stream, arm, strokes=r.strokes)
-    times["check"] = T() - t
-    out = {"picture": pic, "strokes_px": strokes_w, "strokes_mm": strokes_mm, "route": r,
+    signals, _ = checked_signals(stream, arm)
+    reached_positions(stream, arm, signals)
+    times["signals"] = T() - t
+    out = {"picture": pic, "strokes_px": strokes, "strokes_mm": strokes_mm, "route": route,
            "stream": stream, "report": report, "placement": placement, "arm": arm,
-           "wmap": wmap, "start": start}
+           "wmap": wmap, "start": arm.fk(q0), "start_q": q0, "signals": signals}
     return times, out
 
 
@@ -97,13 +85,14 @@ def end_to_end(image, style, arm=None):
         Planning and export together.
     plan : Plan
     export_seconds : float
-        The export (:meth:`Plan.files`) alone.
+        The export (:func:`inkreach.export.plan_files`) alone.
     """
+    from inkreach.export import plan_files
     from inkreach.plan import plan
 
     t = T()
     p = plan(image, arm=arm, style=style)
     t_export = T()
-    p.files()
+    plan_files(p)
     done = T()
     return done - t, p, done - t_export

@@ -5,7 +5,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .arms import Arm, arm_to_toml, default_arm, load_arm, parse_arm, workspace_map
+from .arms import Arm, default_arm, load_arm, parse_arm, workspace_map
 from . import limits
 from .errors import InkreachError
 
@@ -91,32 +91,10 @@ class Plan:
         return simulated_png(self.reached_xy, self.stream.pen, self.arm.pen.width_mm)
 
     def files(self):
-        """Every output file of this plan, name -> bytes or text."""
-        from . import export
-
-        png = export.png_bytes
-
-        extra = {"arm": arm_to_toml(self.arm), "style": self.style,
-                 "options": self.options, "image_size": self.image_size}
-        out = {
-            "plan.json": export.plan_json(self.strokes, self.image_to_arm, self.stats, extra),
-            "joints.csv": export.joints_csv(self.stream),
-            "preview.svg": export.preview_svg(self.strokes, arm=self.arm, wmap=self.workspace,
-                                              placement_hull=self.placement.hull,
-                                              stats=self.stats),
-            "preview.png": png(self.preview()),
-            "order.png": png(self.preview(view="order")),
-            "simulated.png": png(self.simulated()),
-            "SAFETY.txt": export.SAFETY_TEXT + "\n",
-        }
-        if "servo" in self.signals:
-            out["servo.csv"] = export.servo_csv(self.stream, self.signals["servo"])
-        if "stepper" in self.signals:
-            out["stepper.csv"] = export.stepper_csv(self.stream, self.signals["stepper"])
-        out["plan.h"] = export.firmware_header(self.stream,
-                                               servo_signals=self.signals.get("servo"),
-                                               stepper_signals=self.signals.get("stepper"))
-        return out
+        """Every output file of this plan, name -> bytes or text
+        (:func:`inkreach.export.plan_files`)."""
+        from .export import plan_files
+        return plan_files(self)
 
     def save(self, folder):
         """Replace ``folder`` by one holding this plan's files (as a whole; see
@@ -131,21 +109,6 @@ class Plan:
         files = self.files()
         replace_folder(folder, files)
         return {name: os.path.join(os.fspath(folder), name) for name in files}
-
-
-def joint_order_budget(n_strokes):
-    """Time budget (s) of the joint-space reordering pass for ``n_strokes``.
-
-    The pass refines an order that is already good in millimetres, so a
-    small budget gets nearly all of its gain.
-    """
-    return min(1.0, 0.05 + 20e-6 * n_strokes)
-
-
-def _reached_xy(stream, arm, signals):
-    """Pen positions the motors really reach, after signal quantisation."""
-    from .signals import quantised_angles
-    return arm.fk(quantised_angles(stream, arm, signals))
 
 
 def resolve_arm(arm):
@@ -215,11 +178,12 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         For a bad picture, arm or option, a picture with nothing to draw, or a
         drawing that cannot be made safe on this arm.
     """
+    from .export import plan_stats
     from .motion import check_stream, plan_motion
-    from .place import place_drawing, provisional_scale
-    from .route import merge_strokes, order_strokes, reorder_joint_space, travel_stats
-    from .signals.checks import checked_signals
-    from .trace import load_image, trace
+    from .place import drawing_region, pen_width_px, place_drawing
+    from .route import merge_strokes, route_strokes, start_posture
+    from .signals import checked_signals, reached_positions
+    from .trace import load_image, merge_tolerance, trace_picture
 
     def step(stage):
         if progress is not None:
@@ -277,42 +241,30 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     else:
         pic = load_image(image, max_side=max_side, max_pixels=own["max_pixels"])
         W, H = pic.original_size
-        s0 = provisional_scale((W, H), arm, wmap=wmap, **{k: place_opts[k] for k in
-                                                           ("paper", "margin", "size")})
-        pen_px = arm.pen.width_mm / (s0 / min(pic.scale_xy))
+        pen_px = pen_width_px(pic, arm, wmap=wmap, **{k: place_opts[k] for k in
+                                                      ("paper", "margin", "size")})
         limits.check_pen_px(pen_px, arm, (W, H), np.shape(pic.luminance))
         limits.check_style_work(style, style_opts, int(np.prod(np.shape(pic.luminance)[:2])),
                                 pen_px, budget, user_set)
         step("trace")
-        strokes_w = trace(pic.luminance, style, pen_px=pen_px, **style_opts)
-        strokes_o = [pic.to_original(s) for s in strokes_w]
+        strokes_o = trace_picture(pic, style, pen_px=pen_px, **style_opts)
         step("merge")
-        merged = merge_strokes(strokes_o, tol=0.5 / max(min(pic.scale_xy), 1e-9))
+        merged = merge_strokes(strokes_o, tol=merge_tolerance(pic))
         if vec_opts["caption"] is not None:
             merged, (W, H) = vsrc.add_caption(merged, (W, H), vec_opts)
         step("place")
         placement = place_drawing(merged, arm, wmap=wmap, image_size=(W, H), **place_opts)
     strokes_mm = placement.apply_all(merged)
-    start_q = arm.home() if own["start"] is None else np.deg2rad(np.asarray(own["start"], float))
-    if start_q is None:
-        # no rest posture: start over the middle of the drawing (its hull is
-        # convex and usable, so its centroid is too)
-        start_q = arm.ik(placement.hull.mean(0))
-    start_xy = arm.fk(start_q)
+    start_q = start_posture(arm, placement, own["start"])
     limits.check_rows(strokes_mm, arm, start_q, motion_opts["period"], motion_opts["tip_speed"],
                       budget, ordered=False, user=user_set)
     step("route")
-    route = order_strokes(strokes_mm, start=start_xy)
-    if own["joint_order"]:
-        route = reorder_joint_space(route, arm, start_q=start_q,
-                                    time_budget=joint_order_budget(len(route.strokes)))
+    route = route_strokes(strokes_mm, arm, start_q, joint_order=own["joint_order"])
     limits.check_rows(route.strokes, arm, start_q, motion_opts["period"],
                       motion_opts["tip_speed"], budget, user=user_set)
     step("motion")
-    # a flat drawing (one straight line) has a two-point hull: no region
-    region = placement.hull if len(placement.hull) >= 3 else None
-    stream = plan_motion(route.strokes, arm, start=start_q, end=start_q, region=region,
-                         **motion_opts)
+    stream = plan_motion(route.strokes, arm, start=start_q, end=start_q,
+                         region=drawing_region(placement), **motion_opts)
     step("check")
     try:
         report = check_stream(stream, arm, strokes=route.strokes,
@@ -321,21 +273,15 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
         raise InkreachError(limits.in_user_terms(str(exc), motion_opts["period"],
                                                  motion_opts["chord_tol"])) from None
     signals, signal_notes = checked_signals(stream, arm, own["signals"], motion_opts["chord_tol"])
-    reached = _reached_xy(stream, arm, signals)
-    travel = travel_stats(route.strokes, start=start_xy)
-    stats = _stats(travel, stream, report, placement, arm, style, route.strokes)
-    stats["warnings"] = warnings
-    if signals:
-        # the worst pen-position error that rounding the angles to whole
-        # steps or whole microseconds causes, by forward kinematics
-        stats["signal_rounding_mm"] = round(float(np.nanmax(np.hypot(*(reached - stream.xy).T))),
-                                            5)
+    reached = reached_positions(stream, arm, signals)
+    stats = plan_stats(route.strokes, stream, report, placement, arm, style,
+                       start_xy=arm.fk(start_q), warnings=warnings,
+                       reached_xy=reached if signals else None, notes=signal_notes)
     used = {**style_opts, **place_opts, **motion_opts, "tip_speed": float(stream.tip_speed),
             "execution": stream.execution, "max_side": max_side,
             **vsrc.used_options(kind, vec_opts),
             "fidelity": bool(own["fidelity"]),
             "joint_order": bool(own["joint_order"]), "signals": own["signals"]}
-    stats.update(signal_notes)
     p = Plan(strokes=route.strokes, stream=stream, stats=stats, placement=placement, arm=arm,
              style=style, options=used, signals=signals, report=report, workspace=wmap,
              image_size=(int(W), int(H)) if kind == "picture" else (float(W), float(H)),
@@ -347,42 +293,3 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     if progress is not None:
         progress("done", len(STAGES), len(STAGES))
     return p
-
-
-def _stats(travel, stream, report, placement, arm, style, strokes):
-    pen = stream.pen.astype(bool)
-    dt = stream.period
-    # every stroke is lowered onto and lifted off the paper for lift_s each,
-    # rounded up to whole sample periods (as the motion stage holds still)
-    n_dwell = max(1, int(np.ceil(arm.pen.lift_s / dt - 1e-9)))
-    lift_s = 2.0 * len(strokes) * n_dwell * dt
-    down_s = max(float(pen.sum()) * dt - len(strokes) * n_dwell * dt, 0.0)
-    x0, y0, w, h = placement.bbox
-    t = travel.as_dict()
-    stats = {
-        "style": style,
-        "strokes": int(t["strokes"]),
-        "pen_lifts": int(t["pen_lifts"]),
-        "pen_down_mm": round(float(t["pen_down_mm"]), 3),
-        "pen_up_mm": round(float(t["pen_up_mm"]), 3),
-        "estimated_s": round(float(stream.duration), 3),
-        "pen_down_s": round(down_s, 3),
-        "pen_up_s": round(max(float(stream.duration) - down_s - lift_s, 0.0), 3),
-        "lift_dwell_s": round(lift_s, 3),
-        "min_conditioning": round(float(report.min_conditioning), 4),
-        "drawing_mm": [round(float(w), 2), round(float(h), 2)],
-        "drawing_origin_mm": [round(float(x0), 2), round(float(y0), 2)],
-        "rotation_deg": round(float(np.rad2deg(placement.rotation)), 3),
-        "mm_per_px": round(float(placement.scale), 6),
-        "rows": int(len(stream)),
-        "period_s": float(stream.period),
-        "max_speed_deg_s": round(float(np.max(report.max_speed_deg_s)), 3),
-        "max_accel_deg_s2": round(float(np.max(report.max_accel_deg_s2)), 3),
-        "max_deviation_mm": round(float(report.max_deviation_mm), 5),
-        "arm": arm.name,
-    }
-    from .place import paper_note
-    note = paper_note(stats["rotation_deg"])
-    if note:
-        stats["paper_note"] = note
-    return stats

@@ -2,6 +2,8 @@
 
 from ._colour import conditioning_ramp, order_ramp
 from ._scene import likeness_text
+from .bundle import plan_files
+from .stats import plan_stats
 from .files import atomic_write, png_bytes, write_files
 from .firmware import firmware_header
 from .folder import MANIFEST, WriteInterrupted, replace_folder
@@ -14,6 +16,7 @@ from .svg import preview_svg
 from .tables import JOINTS_HEADER, joints_csv, servo_csv, stepper_csv
 
 __all__ = [
+    "plan_files", "plan_stats",
     "SAFETY_TEXT", "atomic_write", "write_files", "png_bytes", "plan_json", "PLAN_FORMAT",
     "joints_csv", "servo_csv", "stepper_csv", "JOINTS_HEADER", "firmware_header",
     "simulated_png", "pen_down_paths", "auto_px_per_mm", "encode_srgb8", "MARGIN_MM",

@@ -18,9 +18,10 @@ from .srgb import linear_to_srgb, srgb_to_linear
 from .stipple import stipple
 from .wave import wave, zigzag_coverage
 from .styles import STYLE_RENDERS, STYLES, style_options, trace
+from .picture import merge_tolerance, trace_picture
 
 __all__ = [
-    "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
+    "trace_picture", "merge_tolerance", "load_image", "Picture", "srgb_to_linear", "linear_to_srgb",
     "trace", "STYLES", "STYLE_RENDERS", "style_options",
     "style_renders", "style_catalogue", "option_label", "HIDDEN_OPTIONS",
     "outline", "outline_edges", "centerline", "hatch", "stipple", "contour", "wave",
