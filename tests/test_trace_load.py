@@ -311,7 +311,7 @@ def test_size_limits_are_checked_for_arrays_and_images():
 
 # Cases found by the second mutation-testing round (tests/MUTATION.md).
 
-def test_a_very_thin_picture_shrinks_to_one_row_of_box_means():
+def test_a_very_thin_picture_shrinks_to_one_row_or_column_of_box_means():
     # 8 x 80 pixels shrunk to a long side of 8: the short side is 0.8 px and
     # rounds to one row.  OpenCV's INTER_AREA at a whole factor is the box mean
     # (OpenCV documentation, cv::resize, "resampling using pixel area
@@ -323,6 +323,10 @@ def test_a_very_thin_picture_shrinks_to_one_row_of_box_means():
     assert pic.luminance.shape == (1, 8)
     want = _iec_decode(a / 255.0).reshape(1, 8, 8, 10).mean(axis=(1, 3))
     np.testing.assert_allclose(pic.luminance, want, atol=1e-6)
+    # and the same picture standing up: one column
+    tall = load_image(np.ascontiguousarray(a.T), max_side=8)
+    assert tall.luminance.shape == (8, 1)
+    np.testing.assert_allclose(tall.luminance, want.T, atol=1e-6)
 
 
 def test_native_order_sixteen_bit_pillow_image_is_decoded_as_srgb():
