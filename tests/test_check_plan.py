@@ -360,3 +360,65 @@ def test_a_plan_made_with_a_tip_speed_keeps_it(saved, tmp_path):
     inkreach.plan(str(pic), style="centerline", fidelity=False, tip_speed=60).save(out)
     res = check_plan(out)
     assert res.ok, res.problem
+
+
+# Cases found by mutation testing: every refusal of a folder that cannot be
+# read as a plan has its own whole line (the house rule for bad input: one
+# line saying what is wrong and what to do), and a plan.json without strokes
+# is read as "no strokes", so the drawn runs break the strokes promise.
+
+def test_folders_that_are_not_plans_are_refused_with_their_own_line(saved, tmp_path):
+    from inkreach.errors import InkreachError
+    nowhere = tmp_path / "nowhere"
+    with pytest.raises(InkreachError) as err:
+        check_plan(nowhere)
+    assert str(err.value) == f"{nowhere} is not a folder; give the folder inkreach plan wrote"
+
+    p = _copy(saved, tmp_path)
+    (p / "joints.csv").unlink()
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p} is not a readable plan folder ([Errno 2] No such file or "
+                              f"directory: '{p / 'joints.csv'}'); plan it again with "
+                              "inkreach plan")
+
+    p = _copy(saved, tmp_path / "b")
+    body = (p / "joints.csv").read_text().split("\n", 1)[1]
+    (p / "joints.csv").write_text("q" * 70 + "\n" + body)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p} is not a readable plan folder (joints.csv starts with "
+                              f"{'q' * 60!r}, not {_HEADER!r}); plan it again with inkreach plan")
+
+    p = _copy(saved, tmp_path / "c")
+    rows = _rows(p)
+    np.savetxt(p / "joints.csv", rows[:, :5], fmt=_FMT[:5], delimiter=",", header=_HEADER,
+               comments="")
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p}/joints.csv has 5 columns and {len(rows)} rows; plan it "
+                              "again with inkreach plan")
+
+    p = _copy(saved, tmp_path / "d")
+    m = _meta(p)
+    m["strokes"] = [[1.0, 2.0, 3.0]]
+    _write_meta(p, m)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p}/plan.json has strokes that are not lists of (x, y) points; "
+                              "plan it again with inkreach plan")
+    m["strokes"], m["arm"] = [], "desk"
+    _write_meta(p, m)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == f"{p}/plan.json holds no arm table; plan it again with inkreach plan"
+
+
+def test_a_plan_without_strokes_breaks_the_strokes_promise(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    del m["strokes"]
+    _write_meta(p, m)
+    r = check_plan(p)
+    _only(r, "strokes")
+    assert "but plan.json has 0 strokes" in r.problem
