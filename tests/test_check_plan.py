@@ -422,3 +422,106 @@ def test_a_plan_without_strokes_breaks_the_strokes_promise(saved, tmp_path):
     r = check_plan(p)
     _only(r, "strokes")
     assert "but plan.json has 0 strokes" in r.problem
+
+
+# More cases found by mutation testing: the rounding slack is half a unit of
+# the last printed place (common practice for rounded decimals) of the
+# coarsest angle column, and no more; arms are compared to 1e-12 relative (a
+# bound chosen here: a few ulps of float arithmetic, far below any length a
+# workshop can measure), with the dotted key and both values named.
+
+@pytest.mark.parametrize("past, refused", [(1.0e-6, True), (0.4e-6, False)])
+def test_the_joint_limit_slack_is_half_a_printed_unit(saved, tmp_path, past, refused):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    m = _meta(p)
+    lo, hi = m["arm"]["limits"]["theta2_deg"]
+    m["arm"]["limits"]["theta2_deg"] = [lo, float(r[:, 2].max()) - past]
+    m["arm"].pop("home", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    if refused:
+        _only(res, "joint limits")
+    else:
+        assert res.ok, res.problem
+
+
+def test_the_angle_slack_follows_the_coarsest_angle_column(saved, tmp_path):
+    # theta1 printed to 4 decimals: its rounding (up to 5e-5 deg) moves the pen
+    # by ~2e-4 mm, which only the slack of that column explains.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[:, 1] = np.round(r[:, 1], 4)
+    np.savetxt(p / "joints.csv", r, fmt=("%.4f", "%.4f") + _FMT[2:], delimiter=",",
+               header=_HEADER, comments="")
+    res = check_plan(p)
+    assert res.ok, res.problem
+
+
+def test_a_cell_in_exponent_notation_leaves_its_column_no_slack(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    lines = (p / "joints.csv").read_text().splitlines()
+    cells = lines[1].split(",")
+    # A number in exponent notation has no fixed last place, so x_mm and y_mm
+    # lose their rounding slack and the 4-decimal rows no longer match FK.
+    cells[4], cells[5] = ("%.4e" % float(c) for c in cells[4:6])
+    lines[1] = ",".join(cells)
+    (p / "joints.csv").write_text("\n".join(lines) + "\n")
+    res = check_plan(p)
+    assert "kinematics" in res.broken and "period" not in res.broken
+
+
+def test_the_recorded_period_is_read_from_the_stats(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    assert m["stats"]["period_s"] > 0
+    m["options"].pop("period", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["period"].startswith(f"{m['stats']['period_s']:g} s, worst time error")
+
+
+def test_a_bad_recorded_arm_names_plan_json(saved, tmp_path):
+    from inkreach.errors import InkreachError
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["arm"]["kind"] = "tripod"
+    _write_meta(p, m)
+    with pytest.raises(InkreachError, match=f"^arm file {p}/plan.json: kind 'tripod'"):
+        check_plan(p)
+
+
+@pytest.mark.parametrize("old, new, where", [
+    ("left_upper = 100.0", "left_upper = 100.00000001",
+     "geometry.left_upper = 100.0 but the given arm has 100.00000001"),
+    ("left_motor = [-40.0, 0.0]", "left_motor = [-40.0, 0.5]",
+     "geometry.left_motor = [-40.0, 0.0] but the given arm has [-40.0, 0.5]"),
+    ('elbows = "out"', 'elbows = "in"', "geometry.elbows = 'out' but the given arm has 'in'"),
+    ("[home]\ntheta_deg = [120.0, 60.0]\n", "",
+     "home = {'theta_deg': [120.0, 60.0]} but the given arm has None"),
+    ("motor1 = [[30.0, 500.0], [210.0, 2500.0]]",
+     "motor1 = [[30.0, 500.0], [120.0, 1500.0], [210.0, 2500.0]]",
+     "servo.motor1 = [[30.0, 500.0], [210.0, 2500.0]] but the given arm has "
+     "[[30.0, 500.0], [120.0, 1500.0], [210.0, 2500.0]]"),
+])
+def test_each_arm_difference_is_named_by_its_key(saved, tmp_path, old, new, where):
+    from inkreach.arms import arm_to_toml, parse_arm
+    p = _copy(saved, tmp_path)
+    text = arm_to_toml(parse_arm(_meta(p)["arm"]))
+    assert old in text
+    arm_file = tmp_path / "arm.toml"
+    arm_file.write_text(text.replace(old, new))
+    res = check_plan(p, arm=str(arm_file))
+    assert res.broken[0] == "arm"
+    assert res.problem == f"arm: plan.json records {where}; plan again for this arm"
+
+
+def test_an_arm_equal_to_a_few_ulps_is_the_same_arm(saved, tmp_path):
+    from inkreach.arms import arm_to_toml, parse_arm
+    p = _copy(saved, tmp_path)
+    text = arm_to_toml(parse_arm(_meta(p)["arm"]))
+    arm_file = tmp_path / "arm.toml"
+    arm_file.write_text(text.replace("left_upper = 100.0", "left_upper = 100.00000000000001"))
+    res = check_plan(p, arm=str(arm_file))
+    assert res.ok, res.problem
