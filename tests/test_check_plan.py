@@ -515,6 +515,7 @@ def test_each_arm_difference_is_named_by_its_key(saved, tmp_path, old, new, wher
     res = check_plan(p, arm=str(arm_file))
     assert res.broken[0] == "arm"
     assert res.problem == f"arm: plan.json records {where}; plan again for this arm"
+    assert res.figures["arm"] == f"differs at {where.split(' = ')[0]}"
 
 
 def test_an_arm_equal_to_a_few_ulps_is_the_same_arm(saved, tmp_path):
@@ -525,3 +526,57 @@ def test_an_arm_equal_to_a_few_ulps_is_the_same_arm(saved, tmp_path):
     arm_file.write_text(text.replace("left_upper = 100.0", "left_upper = 100.00000000000001"))
     res = check_plan(p, arm=str(arm_file))
     assert res.ok, res.problem
+
+
+def test_without_a_recorded_period_it_is_taken_from_the_first_two_rows(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    T = m["stats"].pop("period_s")
+    m["options"].pop("period", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["period"].startswith(f"{T:g} s (not recorded; taken from the first two "
+                                            "rows), worst time error")
+    assert res.figures["arm"] == "recorded arm = given arm"
+    r = _rows(p)
+    r[:, 0] = 0.0              # every row at t = 0: no period at all
+    _write_rows(p, r)
+    res = check_plan(p)
+    assert res.broken[0] == "period"
+    assert res.problem == "period: the sample period is 0.0 s; it must be greater than zero"
+
+
+def test_the_first_row_must_be_at_time_zero(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[0, 0] = 2e-4             # two printed units past t = 0
+    _write_rows(p, r)
+    res = check_plan(p)
+    _only(res, "period")
+    assert res.problem.startswith("period: row 2 of joints.csv (t = 0.0002 s)")
+
+
+# No row closes here, so the lowest-conditioning figure is a minimum over NaN only.
+@pytest.mark.filterwarnings("ignore:All-NaN slice encountered")
+def test_a_linkage_that_cannot_close_is_refused_at_its_first_row(saved, tmp_path):
+    # Lowers of 50 mm: at the first row (the rest posture, elbows 180 mm apart
+    # by the README's conventions, cos 120 deg = -1/2) two 50 mm links cannot
+    # meet, so no pen position exists (triangle inequality).
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["arm"]["geometry"]["left_lower"] = m["arm"]["geometry"]["right_lower"] = 50.0
+    m["arm"].pop("home", None)
+    _write_meta(p, m)
+    r = _rows(p)
+    g = m["arm"]["geometry"]
+    th = np.radians(r[0, 1:3])
+    el = np.array([g["left_motor"][0] + g["left_upper"] * np.cos(th[0]),
+                   g["left_upper"] * np.sin(th[0])])
+    er = np.array([g["right_motor"][0] + g["right_upper"] * np.cos(th[1]),
+                   g["right_upper"] * np.sin(th[1])])
+    assert np.hypot(*(er - el)) > 100.0
+    res = check_plan(p)
+    assert res.broken[0] == "kinematics", res.problem
+    assert res.problem == (f"kinematics: row 2 of joints.csv (t = {r[0, 0]:.4f} s): the linkage "
+                           f"cannot close at ({r[0, 1]:.6f}, {r[0, 2]:.6f}) deg")
