@@ -580,3 +580,26 @@ def test_a_linkage_that_cannot_close_is_refused_at_its_first_row(saved, tmp_path
     assert res.broken[0] == "kinematics", res.problem
     assert res.problem == (f"kinematics: row 2 of joints.csv (t = {r[0, 0]:.4f} s): the linkage "
                            f"cannot close at ({r[0, 1]:.6f}, {r[0, 2]:.6f}) deg")
+
+
+@pytest.mark.parametrize("units, refused", [(2.5, True), (1.5, False)])
+def test_the_speed_slack_is_two_half_units_of_angle_per_period(saved, tmp_path, units, refused):
+    # A difference of two angles each rounded by h = 0.5e-6 deg is off by at
+    # most 2h (interval arithmetic of rounded values, common practice), so the
+    # speed slack is 2h / T: a limit 2.5 h / T below the worst speed is
+    # refused, 1.5 h / T below passes.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    m = _meta(p)
+    T = m["stats"]["period_s"]
+    worst = float((np.abs(np.diff(r[:, 1:3], axis=0)) / T).max())
+    m["arm"]["limits"]["max_speed_deg_s"] = worst - units * 0.5e-6 / T
+    _write_meta(p, m)
+    res = check_plan(p)
+    if refused:
+        _only(res, "speed")
+    else:
+        assert res.ok, res.problem
+        assert res.figures["speed"].startswith("worst theta1 ")
+        assert res.figures["conditioning"].startswith("lowest ")
+        assert res.figures["x, y against FK"].startswith("worst ")
