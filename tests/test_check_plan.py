@@ -603,3 +603,27 @@ def test_the_speed_slack_is_two_half_units_of_angle_per_period(saved, tmp_path, 
         assert res.figures["speed"].startswith("worst theta1 ")
         assert res.figures["conditioning"].startswith("lowest ")
         assert res.figures["x, y against FK"].startswith("worst ")
+
+
+def test_the_recorded_chord_tolerance_is_the_one_used(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["options"]["chord_tol"] = 1e-6      # far below the drawn path's chord error
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "more than chord_tol 1e-06 mm" in res.problem
+
+
+def test_a_stroke_never_drawn_is_named_at_the_last_pen_down_row(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["strokes"].append([[0.0, 200.0], [1.0, 200.0]])
+    _write_meta(p, m)
+    r = _rows(p)
+    last = int(np.flatnonzero(r[:, 3] == 1)[-1])
+    res = check_plan(p)
+    _only(res, "strokes")
+    n = len(m["strokes"])
+    assert res.problem.startswith(f"strokes: row {last + 2} of joints.csv")
+    assert f"the stream has {n - 1} pen-down runs but plan.json has {n} strokes" in res.problem
