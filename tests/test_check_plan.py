@@ -627,3 +627,42 @@ def test_a_stroke_never_drawn_is_named_at_the_last_pen_down_row(saved, tmp_path)
     n = len(m["strokes"])
     assert res.problem.startswith(f"strokes: row {last + 2} of joints.csv")
     assert f"the stream has {n - 1} pen-down runs but plan.json has {n} strokes" in res.problem
+
+
+def _segment_distance(p, poly):
+    """Distance of points to a polyline, written out (projection on each segment, clipped)."""
+    a, b = poly[:-1][None], poly[1:][None]
+    pp = p[:, None]
+    ab = b - a
+    u = np.clip(((pp - a) * ab).sum(-1) / (ab * ab).sum(-1), 0.0, 1.0)
+    c = a + u[..., None] * ab
+    return np.hypot(pp[..., 0] - c[..., 0], pp[..., 1] - c[..., 1]).min(axis=1)
+
+
+def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved, tmp_path):
+    # chord_tol set between the rows' worst distance from their strokes and the
+    # joint-space midpoints' worst distance, both measured here with the
+    # planner's arm and the distance written out above, so only the midpoint
+    # rule can refuse the plan.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    arm = parse_arm(m["arm"])
+    q = np.radians(r[:, 1:3])
+    down = r[:, 3] == 1
+    starts = np.flatnonzero(down & ~np.r_[False, down[:-1]])
+    ends = np.flatnonzero(down & ~np.r_[down[1:], False])
+    worst_row = worst_mid = 0.0
+    for s, k0, k1 in zip(m["strokes"], starts, ends):
+        s = np.asarray(s, float)
+        worst_row = max(worst_row, _segment_distance(arm.fk(q[k0:k1 + 1]), s).max())
+        mid = arm.fk(0.5 * (q[k0:k1] + q[k0 + 1:k1 + 1]))
+        worst_mid = max(worst_mid, _segment_distance(mid, s).max())
+    if worst_mid - worst_row < 4e-4:   # the printed-decimal slacks are ~1.5e-4 mm
+        pytest.skip("the midpoints of this plan sit as close to the strokes as its rows")
+    m["options"]["chord_tol"] = worst_row + 0.25 * (worst_mid - worst_row)
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "the pen between this row and the next is" in res.problem
