@@ -360,3 +360,309 @@ def test_a_plan_made_with_a_tip_speed_keeps_it(saved, tmp_path):
     inkreach.plan(str(pic), style="centerline", fidelity=False, tip_speed=60).save(out)
     res = check_plan(out)
     assert res.ok, res.problem
+
+
+# Cases found by mutation testing: every refusal of a folder that cannot be
+# read as a plan has its own whole line (the house rule for bad input: one
+# line saying what is wrong and what to do), and a plan.json without strokes
+# is read as "no strokes", so the drawn runs break the strokes promise.
+
+def test_folders_that_are_not_plans_are_refused_with_their_own_line(saved, tmp_path):
+    from inkreach.errors import InkreachError
+    nowhere = tmp_path / "nowhere"
+    with pytest.raises(InkreachError) as err:
+        check_plan(nowhere)
+    assert str(err.value) == f"{nowhere} is not a folder; give the folder inkreach plan wrote"
+
+    p = _copy(saved, tmp_path)
+    (p / "joints.csv").unlink()
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p} is not a readable plan folder ([Errno 2] No such file or "
+                              f"directory: '{p / 'joints.csv'}'); plan it again with "
+                              "inkreach plan")
+
+    p = _copy(saved, tmp_path / "b")
+    body = (p / "joints.csv").read_text().split("\n", 1)[1]
+    (p / "joints.csv").write_text("q" * 70 + "\n" + body)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p} is not a readable plan folder (joints.csv starts with "
+                              f"{'q' * 60!r}, not {_HEADER!r}); plan it again with inkreach plan")
+
+    p = _copy(saved, tmp_path / "c")
+    rows = _rows(p)
+    np.savetxt(p / "joints.csv", rows[:, :5], fmt=_FMT[:5], delimiter=",", header=_HEADER,
+               comments="")
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p}/joints.csv has 5 columns and {len(rows)} rows; plan it "
+                              "again with inkreach plan")
+
+    p = _copy(saved, tmp_path / "d")
+    m = _meta(p)
+    m["strokes"] = [[1.0, 2.0, 3.0]]
+    _write_meta(p, m)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == (f"{p}/plan.json has strokes that are not lists of (x, y) points; "
+                              "plan it again with inkreach plan")
+    m["strokes"], m["arm"] = [], "desk"
+    _write_meta(p, m)
+    with pytest.raises(InkreachError) as err:
+        check_plan(p)
+    assert str(err.value) == f"{p}/plan.json holds no arm table; plan it again with inkreach plan"
+
+
+def test_a_plan_without_strokes_breaks_the_strokes_promise(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    del m["strokes"]
+    _write_meta(p, m)
+    r = check_plan(p)
+    _only(r, "strokes")
+    assert "but plan.json has 0 strokes" in r.problem
+
+
+# More cases found by mutation testing: the rounding slack is half a unit of
+# the last printed place (common practice for rounded decimals) of the
+# coarsest angle column, and no more; arms are compared to 1e-12 relative (a
+# bound chosen here: a few ulps of float arithmetic, far below any length a
+# workshop can measure), with the dotted key and both values named.
+
+@pytest.mark.parametrize("past, refused", [(1.0e-6, True), (0.4e-6, False)])
+def test_the_joint_limit_slack_is_half_a_printed_unit(saved, tmp_path, past, refused):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    m = _meta(p)
+    lo, hi = m["arm"]["limits"]["theta2_deg"]
+    m["arm"]["limits"]["theta2_deg"] = [lo, float(r[:, 2].max()) - past]
+    m["arm"].pop("home", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    if refused:
+        _only(res, "joint limits")
+    else:
+        assert res.ok, res.problem
+
+
+def test_the_angle_slack_follows_the_coarsest_angle_column(saved, tmp_path):
+    # theta1 printed to 4 decimals: its rounding (up to 5e-5 deg) moves the pen
+    # by ~2e-4 mm, which only the slack of that column explains.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[:, 1] = np.round(r[:, 1], 4)
+    np.savetxt(p / "joints.csv", r, fmt=("%.4f", "%.4f") + _FMT[2:], delimiter=",",
+               header=_HEADER, comments="")
+    res = check_plan(p)
+    assert res.ok, res.problem
+
+
+def test_a_cell_in_exponent_notation_leaves_its_column_no_slack(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    lines = (p / "joints.csv").read_text().splitlines()
+    cells = lines[1].split(",")
+    # A number in exponent notation has no fixed last place, so x_mm and y_mm
+    # lose their rounding slack and the 4-decimal rows no longer match FK.
+    cells[4], cells[5] = ("%.4e" % float(c) for c in cells[4:6])
+    lines[1] = ",".join(cells)
+    (p / "joints.csv").write_text("\n".join(lines) + "\n")
+    res = check_plan(p)
+    assert "kinematics" in res.broken and "period" not in res.broken
+
+
+def test_the_recorded_period_is_read_from_the_stats(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    assert m["stats"]["period_s"] > 0
+    m["options"].pop("period", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["period"].startswith(f"{m['stats']['period_s']:g} s, worst time error")
+
+
+def test_a_bad_recorded_arm_names_plan_json(saved, tmp_path):
+    from inkreach.errors import InkreachError
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["arm"]["kind"] = "tripod"
+    _write_meta(p, m)
+    with pytest.raises(InkreachError, match=f"^arm file {p}/plan.json: kind 'tripod'"):
+        check_plan(p)
+
+
+@pytest.mark.parametrize("old, new, where", [
+    ("left_upper = 100.0", "left_upper = 100.00000001",
+     "geometry.left_upper = 100.0 but the given arm has 100.00000001"),
+    ("left_motor = [-40.0, 0.0]", "left_motor = [-40.0, 0.5]",
+     "geometry.left_motor = [-40.0, 0.0] but the given arm has [-40.0, 0.5]"),
+    ('elbows = "out"', 'elbows = "in"', "geometry.elbows = 'out' but the given arm has 'in'"),
+    ("[home]\ntheta_deg = [120.0, 60.0]\n", "",
+     "home = {'theta_deg': [120.0, 60.0]} but the given arm has None"),
+    ("motor1 = [[30.0, 500.0], [210.0, 2500.0]]",
+     "motor1 = [[30.0, 500.0], [120.0, 1500.0], [210.0, 2500.0]]",
+     "servo.motor1 = [[30.0, 500.0], [210.0, 2500.0]] but the given arm has "
+     "[[30.0, 500.0], [120.0, 1500.0], [210.0, 2500.0]]"),
+])
+def test_each_arm_difference_is_named_by_its_key(saved, tmp_path, old, new, where):
+    from inkreach.arms import arm_to_toml, parse_arm
+    p = _copy(saved, tmp_path)
+    text = arm_to_toml(parse_arm(_meta(p)["arm"]))
+    assert old in text
+    arm_file = tmp_path / "arm.toml"
+    arm_file.write_text(text.replace(old, new))
+    res = check_plan(p, arm=str(arm_file))
+    assert res.broken[0] == "arm"
+    assert res.problem == f"arm: plan.json records {where}; plan again for this arm"
+    assert res.figures["arm"] == f"differs at {where.split(' = ')[0]}"
+
+
+def test_an_arm_equal_to_a_few_ulps_is_the_same_arm(saved, tmp_path):
+    from inkreach.arms import arm_to_toml, parse_arm
+    p = _copy(saved, tmp_path)
+    text = arm_to_toml(parse_arm(_meta(p)["arm"]))
+    arm_file = tmp_path / "arm.toml"
+    arm_file.write_text(text.replace("left_upper = 100.0", "left_upper = 100.00000000000001"))
+    res = check_plan(p, arm=str(arm_file))
+    assert res.ok, res.problem
+
+
+def test_without_a_recorded_period_it_is_taken_from_the_first_two_rows(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    T = m["stats"].pop("period_s")
+    m["options"].pop("period", None)
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["period"].startswith(f"{T:g} s (not recorded; taken from the first two "
+                                            "rows), worst time error")
+    assert res.figures["arm"] == "recorded arm = given arm"
+    r = _rows(p)
+    r[:, 0] = 0.0              # every row at t = 0: no period at all
+    _write_rows(p, r)
+    res = check_plan(p)
+    assert res.broken[0] == "period"
+    assert res.problem == "period: the sample period is 0.0 s; it must be greater than zero"
+
+
+def test_the_first_row_must_be_at_time_zero(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    r[0, 0] = 2e-4             # two printed units past t = 0
+    _write_rows(p, r)
+    res = check_plan(p)
+    _only(res, "period")
+    assert res.problem.startswith("period: row 2 of joints.csv (t = 0.0002 s)")
+
+
+# No row closes here, so the lowest-conditioning figure is a minimum over NaN only.
+@pytest.mark.filterwarnings("ignore:All-NaN slice encountered")
+def test_a_linkage_that_cannot_close_is_refused_at_its_first_row(saved, tmp_path):
+    # Lowers of 50 mm: at the first row (the rest posture, elbows 180 mm apart
+    # by the README's conventions, cos 120 deg = -1/2) two 50 mm links cannot
+    # meet, so no pen position exists (triangle inequality).
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["arm"]["geometry"]["left_lower"] = m["arm"]["geometry"]["right_lower"] = 50.0
+    m["arm"].pop("home", None)
+    _write_meta(p, m)
+    r = _rows(p)
+    g = m["arm"]["geometry"]
+    th = np.radians(r[0, 1:3])
+    el = np.array([g["left_motor"][0] + g["left_upper"] * np.cos(th[0]),
+                   g["left_upper"] * np.sin(th[0])])
+    er = np.array([g["right_motor"][0] + g["right_upper"] * np.cos(th[1]),
+                   g["right_upper"] * np.sin(th[1])])
+    assert np.hypot(*(er - el)) > 100.0
+    res = check_plan(p)
+    assert res.broken[0] == "kinematics", res.problem
+    assert res.problem == (f"kinematics: row 2 of joints.csv (t = {r[0, 0]:.4f} s): the linkage "
+                           f"cannot close at ({r[0, 1]:.6f}, {r[0, 2]:.6f}) deg")
+
+
+@pytest.mark.parametrize("units, refused", [(2.5, True), (1.5, False)])
+def test_the_speed_slack_is_two_half_units_of_angle_per_period(saved, tmp_path, units, refused):
+    # A difference of two angles each rounded by h = 0.5e-6 deg is off by at
+    # most 2h (interval arithmetic of rounded values, common practice), so the
+    # speed slack is 2h / T: a limit 2.5 h / T below the worst speed is
+    # refused, 1.5 h / T below passes.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    m = _meta(p)
+    T = m["stats"]["period_s"]
+    worst = float((np.abs(np.diff(r[:, 1:3], axis=0)) / T).max())
+    m["arm"]["limits"]["max_speed_deg_s"] = worst - units * 0.5e-6 / T
+    _write_meta(p, m)
+    res = check_plan(p)
+    if refused:
+        _only(res, "speed")
+    else:
+        assert res.ok, res.problem
+        assert res.figures["speed"].startswith("worst theta1 ")
+        assert res.figures["conditioning"].startswith("lowest ")
+        assert res.figures["x, y against FK"].startswith("worst ")
+
+
+def test_the_recorded_chord_tolerance_is_the_one_used(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["options"]["chord_tol"] = 1e-6      # far below the drawn path's chord error
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "more than chord_tol 1e-06 mm" in res.problem
+
+
+def test_a_stroke_never_drawn_is_named_at_the_last_pen_down_row(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["strokes"].append([[0.0, 200.0], [1.0, 200.0]])
+    _write_meta(p, m)
+    r = _rows(p)
+    last = int(np.flatnonzero(r[:, 3] == 1)[-1])
+    res = check_plan(p)
+    _only(res, "strokes")
+    n = len(m["strokes"])
+    assert res.problem.startswith(f"strokes: row {last + 2} of joints.csv")
+    assert f"the stream has {n - 1} pen-down runs but plan.json has {n} strokes" in res.problem
+
+
+def _segment_distance(p, poly):
+    """Distance of points to a polyline, written out (projection on each segment, clipped)."""
+    a, b = poly[:-1][None], poly[1:][None]
+    pp = p[:, None]
+    ab = b - a
+    u = np.clip(((pp - a) * ab).sum(-1) / (ab * ab).sum(-1), 0.0, 1.0)
+    c = a + u[..., None] * ab
+    return np.hypot(pp[..., 0] - c[..., 0], pp[..., 1] - c[..., 1]).min(axis=1)
+
+
+def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved, tmp_path):
+    # chord_tol set between the rows' worst distance from their strokes and the
+    # joint-space midpoints' worst distance, both measured here with the
+    # planner's arm and the distance written out above, so only the midpoint
+    # rule can refuse the plan.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    arm = parse_arm(m["arm"])
+    q = np.radians(r[:, 1:3])
+    down = r[:, 3] == 1
+    starts = np.flatnonzero(down & ~np.r_[False, down[:-1]])
+    ends = np.flatnonzero(down & ~np.r_[down[1:], False])
+    worst_row = worst_mid = 0.0
+    for s, k0, k1 in zip(m["strokes"], starts, ends):
+        s = np.asarray(s, float)
+        worst_row = max(worst_row, _segment_distance(arm.fk(q[k0:k1 + 1]), s).max())
+        mid = arm.fk(0.5 * (q[k0:k1] + q[k0 + 1:k1 + 1]))
+        worst_mid = max(worst_mid, _segment_distance(mid, s).max())
+    if worst_mid - worst_row < 4e-4:   # the printed-decimal slacks are ~1.5e-4 mm
+        pytest.skip("the midpoints of this plan sit as close to the strokes as its rows")
+    m["options"]["chord_tol"] = worst_row + 0.25 * (worst_mid - worst_row)
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "the pen between this row and the next is" in res.problem

@@ -210,3 +210,16 @@ def test_servo_pulses_refuse_bad_streams_and_give_whole_ticks():
     with pytest.raises(InkreachError, match="must rise .* strictly from pair to pair; remove "
                                             "repeated or out-of-order measurements"):
         ServoCalibration(motor1=[[0.0, 500.0], [90.0, 1500.0], [90.0, 1600.0]])
+
+
+def test_servo_pulses_give_the_whole_not_finite_message():
+    # Compared whole (found by mutation testing: a search for a part of it let
+    # text added around it pass).
+    from types import SimpleNamespace
+    bad = SimpleNamespace(q=np.array([[0.5, np.inf]]), pen=np.zeros(1, np.int8))
+    with pytest.raises(InkreachError) as err:
+        servo_pulses(bad)
+    assert str(err.value) == "the joint stream holds angles that are not finite; re-plan it"
+    three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.zeros(2, np.int8))
+    with pytest.raises(InkreachError, match="^the joint stream must hold two angles per row$"):
+        servo_pulses(three)

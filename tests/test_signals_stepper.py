@@ -152,3 +152,36 @@ def test_step_positions_beyond_32_bits_are_refused():
     s = stream_of_deg([[0.0, 0.0], [170.0, 0.0]])
     with pytest.raises(InkreachError, match="does not fit in 32 bits; check zero_deg"):
         stepper_steps(s, StepperConfig(gear_ratio=1e7))   # 170 deg -> 1.5e10 steps
+
+
+# Cases found by the second mutation-testing round (tests/MUTATION.md).
+
+def test_stepper_steps_refuse_bad_streams_with_their_own_line():
+    # Any object with q, pen, t and period is accepted (duck typing), so the
+    # shape rule must hold for a row of three angles too; the messages are
+    # compared whole, a bound chosen here so text added around them fails.
+    from types import SimpleNamespace
+    three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.ones(2, np.int8), t=np.arange(2) * 0.01,
+                            period=0.01)
+    with pytest.raises(InkreachError) as err:
+        stepper_steps(three)
+    assert str(err.value) == "the joint stream must hold two angles per row"
+    flat = SimpleNamespace(q=np.zeros(4), pen=np.ones(4, np.int8), t=np.arange(4) * 0.01,
+                           period=0.01)
+    with pytest.raises(InkreachError, match="^the joint stream must hold two angles per row$"):
+        stepper_steps(flat)
+    bad = stream_of_deg([[0.0, 0.0], [np.nan, 1.0]])
+    with pytest.raises(InkreachError) as err:
+        stepper_steps(bad)
+    assert str(err.value) == "the joint stream holds angles that are not finite; re-plan it"
+
+
+def test_pen_error_of_an_empty_stream_is_zero():
+    # No rows, no rounding: every error is exactly zero (a maximum over an
+    # empty set is taken as 0 here, by choice, so an empty plan reports 0 mm).
+    from types import SimpleNamespace
+    empty = SimpleNamespace(q=np.zeros((0, 2)), pen=np.zeros(0, np.int8), t=np.zeros(0),
+                            period=0.01)
+    err = worst_pen_error_mm(empty, default_arm())
+    assert (err.linear_mm, err.fk_mm, err.bound_mm) == (0.0, 0.0, 0.0)
+    assert all(type(v) is float for v in (err.linear_mm, err.fk_mm, err.bound_mm))

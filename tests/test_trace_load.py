@@ -307,3 +307,74 @@ def test_size_limits_are_checked_for_arrays_and_images():
         load_image(np.zeros((20, 20)), max_side=7)
     with pytest.raises(InkreachError, match=r"give a file path, a Pillow image or a numpy array"):
         load_image(3.5)
+
+
+# Cases found by the second mutation-testing round (tests/MUTATION.md).
+
+def test_a_very_thin_picture_shrinks_to_one_row_or_column_of_box_means():
+    # 8 x 80 pixels shrunk to a long side of 8: the short side is 0.8 px and
+    # rounds to one row.  OpenCV's INTER_AREA at a whole factor is the box mean
+    # (OpenCV documentation, cv::resize, "resampling using pixel area
+    # relation"); the mean is taken here by hand in linear light from the
+    # IEC 61966-2-1:1999 decoding.
+    levels = np.repeat(np.arange(0, 240, 30, dtype=np.uint8), 10)   # 8 blocks of 10 columns
+    a = np.repeat(levels[None, :], 8, axis=0)
+    pic = load_image(a, max_side=8)
+    assert pic.luminance.shape == (1, 8)
+    want = _iec_decode(a / 255.0).reshape(1, 8, 8, 10).mean(axis=(1, 3))
+    np.testing.assert_allclose(pic.luminance, want, atol=1e-6)
+    # and the same picture standing up: one column
+    tall = load_image(np.ascontiguousarray(a.T), max_side=8)
+    assert tall.luminance.shape == (8, 1)
+    np.testing.assert_allclose(tall.luminance, want.T, atol=1e-6)
+
+
+def test_native_order_sixteen_bit_pillow_image_is_decoded_as_srgb():
+    # Pillow's "I;16N" is 16-bit grey in the machine's byte order (Pillow
+    # handbook, "Modes"); its levels are v / 65535 sRGB, IEC 61966-2-1:1999 5.2.
+    v = np.array([[0, 10000, 32768, 65535]] * 8, np.uint16).repeat(2, axis=1)
+    im = Image.frombytes("I;16N", (8, 8), v.tobytes())
+    assert im.mode == "I;16N"
+    lum = load_image(im).luminance
+    np.testing.assert_allclose(lum, _iec_decode(v / 65535.0), atol=1e-6)
+
+
+def test_decompression_bomb_message_gives_whole_megapixels(tmp_path, monkeypatch):
+    # Pillow raises DecompressionBombError above twice Image.MAX_IMAGE_PIXELS
+    # (Pillow reference, Image.open); the message names the allowed size in
+    # whole megapixels (max_pixels // 10**6).
+    monkeypatch.setattr(Image, "MAX_IMAGE_PIXELS", 1000)
+    Image.new("L", (100, 100)).save(tmp_path / "big.png")
+    with pytest.raises(InkreachError, match=r"^big.png: the picture is far too large; "
+                                            r"shrink it below 40 megapixels$"):
+        load_image(tmp_path / "big.png")
+    with pytest.raises(InkreachError, match=r"shrink it below 2 megapixels$"):
+        load_image(tmp_path / "big.png", max_pixels=2_500_000)
+
+
+def test_a_path_ending_in_a_separator_is_named_in_full(tmp_path):
+    # os.path.basename gives "" for a path ending in a separator (Python
+    # documentation, os.path.basename), so the message names the whole path.
+    (tmp_path / "pics").mkdir()
+    where = str(tmp_path / "pics") + "/"
+    with pytest.raises(InkreachError) as err:
+        load_image(where)
+    assert str(err.value) == (f"{where}: is a folder, not a picture; "
+                              "give the path of an image file")
+
+
+def test_an_unreadable_file_names_the_system_error(tmp_path, monkeypatch):
+    # Image.open lets OSError through for a file the system will not read
+    # (Pillow reference, Image.open, "Raises"); the tests run as root, where
+    # file permissions do not stop reading, so the error is raised by hand.
+    path = tmp_path / "locked.png"
+    Image.new("L", (10, 10)).save(path)
+
+    def refuse(*args, **kwargs):
+        raise PermissionError(13, "Permission denied")
+
+    monkeypatch.setattr(Image, "open", refuse)
+    with pytest.raises(InkreachError) as err:
+        load_image(path)
+    assert str(err.value) == ("locked.png: could not be read ([Errno 13] Permission denied); "
+                              "check the file")
