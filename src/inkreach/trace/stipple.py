@@ -26,8 +26,11 @@ _PITCH = 0.9          # dot fill lines apart, pen widths: overlapping a little, 
 _CLOSE_FROM = 0.85    # cells darker than this: dots grow towards the cell's far corner,
 _CLOSE_GROW = 1.1     # up to this many times their area-true radius (our choice, by
                       # the tone figures on scikit-image's camera photo)
-_CHAIN_GAP = 1.0      # dots closer than this many pen widths, edge to edge, are
-                      # joined pen-down (the hop inks little more than a dot's rim)
+_CHAIN_GAP = 3.0      # dots closer than this many pen widths, edge to edge, are
+                      # joined pen-down: a hop inks at most 3 pen widths of line, and
+                      # saves a lift (two dwells and a pen-up move, about 0.3 s on the
+                      # default arm).  Our choice, by bench/bench_tone.py: lifts fall
+                      # about tenfold on the four photos with the tone targets still met
 
 
 def default_dot_count(density, pen_px):
@@ -99,7 +102,7 @@ def filled_dot_count(ink, pen_px):
     return int(min(_MAX_FILLED, max(_MIN_DOTS, round(n))))
 
 
-def dot_zigzag(centre, radius, pen_px, pitch=_PITCH):
+def dot_zigzag(centre, radius, pen_px, pitch=None):
     """Back-and-forth strokes that ink a disc of ``radius``.
 
     Chords every ``pitch`` pen widths across the disc of centre lines
@@ -120,7 +123,7 @@ def dot_zigzag(centre, radius, pen_px, pitch=_PITCH):
     rmax = float(radius) - 0.5 * float(pen_px)
     if rmax <= 0:
         return c.copy()
-    p = pitch * float(pen_px)
+    p = (_PITCH if pitch is None else pitch) * float(pen_px)
     k = max(1, int(np.ceil(2.0 * rmax / p)))
     y = (np.arange(k + 1) - 0.5 * k) * (2.0 * rmax / k) if k > 1 else np.zeros(1)
     r = float(radius)
@@ -247,8 +250,8 @@ def stipple(lum, *, pen_px=2.0, dots=None, iterations=20, mode="dots", seed=0,
         Lloyd relaxation rounds.
     mode : {'dots', 'touch', 'line'}, optional
         ``'dots'``: each dot is filled back and forth (`dot_zigzag`) as large as its
-        cell's ink, dots whose rims come within a pen width of the next are
-        drawn in one stroke.  ``'touch'``: each dot is a one-point stroke
+        cell's ink, dots whose rims come within three pen widths of the next
+        are drawn in one stroke.  ``'touch'``: each dot is a one-point stroke
         (the pen touches down and lifts; a sketch of the tone, lighter than
         the picture).  ``'line'``: one stroke through all dot centres, in
         the order of ``inkreach.route.order_points`` (a short open path).
