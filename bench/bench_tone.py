@@ -64,7 +64,11 @@ def section(cfg=None):
             "pen's width (exact area coverage, linear light), photo and drawing are blurred by "
             "a Gaussian of 1.5 mm on paper and compared in CIE L*. Targets: range ratio ≥ "
             f"{TONE_TARGETS['range_ratio']}, |ΔL*| ≤ {TONE_TARGETS['delta_lightness']:g}, SSIM "
-            f"≥ {TONE_TARGETS['ssim']}, estimated time < 15 min.\n\n"
+            f"≥ {TONE_TARGETS['ssim']}, estimated time < 15 min. Stipple's default draws dots "
+            "placed by weighted Voronoi stippling where the tone (smoothed over a dot) is "
+            "lighter than 0.45 and fills darker areas with dense lines that follow the tone "
+            "(crossed near black): the arm draws long lines about four times faster per "
+            "unit of ink than small dots, whose short legs each start and end at rest.\n\n"
             "| photo | style | range ratio | ΔL* | SSIM | pen lifts | estimated min | plan s "
             "| tone targets | time target |\n|---|---|---|---|---|---|---|---|---|---|\n")
     summary = ("\n\nTone targets met on " + ", ".join(

@@ -73,3 +73,43 @@ def test_filled_dots_close_up_into_black_for_the_darkest_tones():
     strokes = stipple(np.full((n, n), 0.03, np.float32), pen_px=pen)
     cov = cv_coverage(strokes, (n, n), pen, scale=6)[16:-16, 16:-16].mean()
     assert cov >= 0.95
+
+
+@pytest.mark.parametrize("y", [0.3, 0.15, 0.05, 0.01])
+def test_the_line_fill_of_dark_areas_reaches_the_murray_davies_coverage(y):
+    # Murray-Davies (A. Murray 1936): grey Y needs coverage 1 - Y; measured with OpenCV fills,
+    # also with a pen 4 % narrower than planned (the final placement's scale may differ a
+    # little from the one the picture was traced at); 0.06 is an allowance of our own
+    from inkreach.trace.hatch import _line_fill
+    pen, n = 1.5, 160
+    strokes = _line_fill(np.full((n, n), 1.0 - y), pen)
+    for width in (pen, 0.96 * pen):
+        cov = cv_coverage(strokes, (n, n), width, scale=6)[16:-16, 16:-16].mean()
+        assert cov == pytest.approx(1.0 - y, abs=0.06)
+
+
+def test_light_parts_get_dots_and_dark_parts_lines_each_at_its_tone():
+    # a light half (Y = 0.8) and a dark half (Y = 0.2): dots on the light half, long lines on
+    # the dark half, each half inked to 1 - Y (Murray-Davies) within an allowance of our own
+    pen, h, w = 1.5, 120, 240
+    lum = np.full((h, w), 0.8, np.float32)
+    lum[:, w // 2:] = 0.2
+    strokes = stipple(lum, pen_px=pen)
+    # segments longer than two pens: the dots' fills run along rows (dy = 0), the lines at
+    # 45 degrees (|dx| = |dy|)
+    a = np.concatenate([s[:-1] for s in strokes if len(s) > 1])
+    b = np.concatenate([s[1:] for s in strokes if len(s) > 1])
+    d = b - a
+    long = np.hypot(*d.T) > 2 * pen
+    flat = np.abs(d[:, 1]) < 1e-6
+    slant = np.abs(np.abs(d[:, 0]) - np.abs(d[:, 1])) < 0.05 * np.hypot(*d.T)
+    light = long & (np.maximum(a[:, 0], b[:, 0]) < w // 2 - 4 * pen)
+    dark = long & (np.minimum(a[:, 0], b[:, 0]) > w // 2 + 4 * pen)
+    # (the rest on the light half: hops between chained dots)
+    assert light.sum() > 50 and flat[light].mean() > 0.3     # dots on the light half
+    assert dark.sum() > 50 and slant[dark].mean() > 0.5      # lines on the dark half (and
+    #                                                          the turns joining them)
+    assert flat[dark].mean() < 0.05
+    cov = cv_coverage(strokes, (h, w), pen, scale=6)
+    assert cov[16:-16, 16:w // 2 - 16].mean() == pytest.approx(0.2, abs=0.06)
+    assert cov[16:-16, w // 2 + 16:-16].mean() == pytest.approx(0.8, abs=0.06)

@@ -343,6 +343,62 @@ def _fixed_hatch(tone, pen, o, min_run):
     return _layers_to_strokes(fields, pen, o, min_run, 0)
 
 
+_FILL_PITCH = 0.6     # lattice of the line fill, pen widths: overlapping, so a
+                      # single missing line leaves a gap of only 0.2 pen widths,
+                      # even with a pen a few per cent narrower than planned
+_FILL_PEN = 0.98     # cover tables for a pen this share of the planned width
+_FILL_FIRST = 0.75    # the first layer inks at most this; a second, crossing
+                      # layer the rest, so no streak of missing lines shows in
+                      # near-black parts (both our choice, by bench/bench_tone.py)
+
+
+def _fill_share(cover, s, pen, bits=5):
+    """Share of lattice lines to draw for ``cover`` (see `_line_fill`).
+
+    The cover of each share ``j / 2**bits`` is measured exactly along the
+    lattice's normal: the lines whose rank (`_line_ranks`) is below the
+    share, each ``pen`` wide, every ``s``, over one period of ``2**bits``
+    lines, sampled 64 times per lattice gap; the wanted cover is then
+    looked up in that table.
+    """
+    n = 1 << bits
+    x = (np.arange(64 * n) + 0.5) * (s / 64.0)                  # one period
+    share = np.arange(n + 1) / n
+    k = np.arange(n)
+    d = np.abs(x[:, None] - k[None, :] * s)
+    d = np.minimum(d, n * s - d)                               # periodic distance
+    near = d <= 0.5 * pen                                      # (samples, lines)
+    drawn = _line_ranks(n, bits)[None, :] < share[:, None]     # (shares, lines)
+    table = (drawn.astype(np.float64) @ near.T.astype(np.float64) > 0).mean(axis=1)
+    table = np.maximum.accumulate(table) + np.arange(n + 1) * 1e-9
+    return np.interp(np.clip(cover, 0.0, 1.0), table, share)
+
+
+def _line_fill(tone, pen, angle=45.0, levels=32):
+    """Dense parallel lines whose share follows the tone, crossed by a
+    second layer only where the first would need more than `_FILL_FIRST`
+    (the fill the stipple style uses for its darkest areas).
+
+    Lines of width ``w`` on a lattice of spacing ``s = 0.6 w``, a share of
+    them drawn, spread evenly by their ranks (`_line_ranks`); the share
+    for a cover comes from the exact cover of each share (`_fill_share`).
+    Two crossed layers covering ``c1`` and ``c2`` together cover
+    ``1 - (1 - c1)(1 - c2)`` (independent line sets).
+    """
+    t = _smoothed(np.asarray(tone, dtype=np.float64), 1.5 * pen)
+    t = np.clip(t, 0.0, 1.0)
+    t[t < _MIN_TONE] = 0.0
+    s = _FILL_PITCH * float(pen)
+    c1 = np.minimum(t, _FILL_FIRST)
+    c2 = np.clip((t - c1) / (1.0 - c1), 0.0, 1.0)
+    w = _FILL_PEN * float(pen)
+    fields = [(_fill_share(c1, s, w), s)]
+    if np.any(c2 > 0):
+        fields.append((_fill_share(c2, s, w) * (c2 > 0), s))
+    return finish(_layers_to_strokes(fields, pen, {"angle": angle}, 4.0 * pen, levels),
+                  "hatch", 0.0, 0.0)
+
+
 def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smooth=None,
           min_length=None):
     """Draw tone with parallel hatching, crossed for darker tones.
