@@ -29,6 +29,7 @@ _CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_sto
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
+_BLEND_REPAIRS = 12              # repair rounds the corner blend gets before falling back
 
 
 def _as_strokes(strokes):
@@ -536,6 +537,55 @@ def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     return np.unique(np.concatenate([bad, bad + 1]))
 
 
+def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
+    """Rows next to which a stroke vertex lies too far from the drawn path.
+
+    The drawn path of a stroke runs through its pen-down rows and the
+    joint-space midpoints between them, in order; every vertex of the
+    stroke must lie within ``chord_tol`` of it (the stroke is drawn whole,
+    the rule of ``inkreach check``). Rows that cut a corner, or two close
+    corners at once, too deeply are returned to be slowed down.
+    """
+    from scipy.spatial import cKDTree
+
+    from ..place._geometry import _point_segment_distance
+
+    kd = np.flatnonzero(pen == 1)
+    lines = [i for i, x in enumerate(strokes) if len(x) > 1]
+    if kd.size < 2 or not lines:
+        return np.zeros(0, int)
+    lab = stroke[kd]
+    pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
+    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
+    pts = np.concatenate([arm.fk(q[kd]), xm])
+    order = np.argsort(np.concatenate([2 * np.arange(kd.size), 2 * np.flatnonzero(pair) + 1]),
+                       kind="stable")
+    pts = pts[order]
+    plab = np.concatenate([lab, lab[:-1][pair]])[order]
+    prow = np.concatenate([kd, kd[:-1][pair]])[order]
+    # pieces of the drawn path, without the zero-length ones of the dwells
+    same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
+    if not np.any(same):
+        return np.zeros(0, int)
+    A, B = pts[:-1][same], pts[1:][same]
+    slab, srow = plab[:-1][same], prow[:-1][same]
+    big = 1e7
+    tree = cKDTree(np.column_stack([0.5 * (A + B), slab * big]))
+    V = np.concatenate([strokes[i] for i in lines])
+    vlab = np.repeat(lines, [len(strokes[i]) for i in lines])
+    k = min(8, len(A))
+    _, idx = tree.query(np.column_stack([V, vlab * big]), k=k)
+    idx = idx.reshape(len(V), k)
+    d = _point_segment_distance(V[:, None, :], A[idx], B[idx])
+    d = np.where(slab[idx] == vlab[:, None], d, np.inf)
+    # (a stroke whose rows never move has no pieces: nothing to slow down)
+    bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
+    if bad.size == 0:
+        return bad
+    r = srow[idx[bad, np.argmin(d[bad], axis=1)]]
+    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
+
+
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
                 tip_speed=None, region=None, margin=1.0, corner_blend=True):
     """Plan the joint stream that draws ordered strokes.
@@ -706,37 +756,45 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             return (_TRAVEL_CART, P, Q, 0, -1)
         return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1)
 
-    pieces = []
-    for i in range(n):
-        pieces.append(travel(i))
-        pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
-        if i in drawn:
-            P, Q = drawn[i]
-            cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed,
-                                 bool(corner_blend))
-            for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
-                pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
-        pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
-    pieces.append(travel(n))
-    path = _Path(pieces)
-    g = _geometry(path, arm, margin, tip_speed)
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
+    index = _StrokeIndex(S, chord_tol) if n else None
 
-    f = np.ones(len(g["length"]))
-    index = None
-    for _ in range(_MAX_REPAIRS):
-        q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
-                                             n_dwell, bool(corner_blend))
-        rows = _stream_violations(q, period, arm)
-        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
-        if index is None and n:
-            index = _StrokeIndex(S, chord_tol)
-        if index is not None:
-            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
-        if rows.size == 0:
-            break
-        if not _slow_down(f, tv, tau, rows, period):
-            break
+    def timed(blend, repairs):
+        pieces = []
+        for i in range(n):
+            pieces.append(travel(i))
+            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
+            if i in drawn:
+                P, Q = drawn[i]
+                cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend)
+                for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
+                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
+            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
+        pieces.append(travel(n))
+        path = _Path(pieces)
+        g = _geometry(path, arm, margin, tip_speed)
+        f = np.ones(len(g["length"]))
+        for _ in range(repairs):
+            q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
+                                                 n_dwell, blend)
+            rows = _stream_violations(q, period, arm)
+            rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+            if index is not None:
+                rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index,
+                                                          chord_tol))
+                if blend:
+                    rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
+            if rows.size == 0:
+                break
+            if not _slow_down(f, tv, tau, rows, period):
+                break
+        return q, pen, stroke, rows
+
+    # The blend first; where its rows cannot be repaired in a few rounds (tiny
+    # closed marks, e.g. stipple dots), the plain rows on every sharp vertex.
+    q, pen, stroke, rows = timed(True, _BLEND_REPAIRS) if corner_blend else (None,) * 4
+    if rows is None or rows.size:
+        q, pen, stroke, rows = timed(False, _MAX_REPAIRS)
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
