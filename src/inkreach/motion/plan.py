@@ -610,7 +610,11 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
     inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
     stretched only as far as that needs, and only vertices whose slow-down
-    would cost more than about half a period are treated so. Without it
+    would cost more than about half a period are treated so; every stroke
+    vertex is then re-checked to lie within ``chord_tol`` of the drawn path
+    (rows and joint-space midpoints), and where the rows cannot be repaired
+    within a few rounds the whole drawing is timed without the blend.
+    Without it
     the row lands exactly on the vertex and the stroke's time between such
     vertices is stretched to a whole number of periods. Rows whose finite
     differences still break a limit (joint speed, acceleration, or the tip
