@@ -18,7 +18,9 @@ STAGES = ("arm", "load", "trace", "merge", "place", "route", "motion", "check", 
 PLACE_OPTIONS = {"paper": None, "margin": 5.0, "size": None, "prefer": "largest",
                  "rotations": None, "tilt": False}
 #: Options of the motion stage, with their defaults.
-MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": 80.0}  # tip: motion.plan.TIP_SPEED
+# tip_speed: motion.plan.TIP_SPEED; corner_blend: rows may pass near a sharp
+# vertex instead of on it, the chord staying within the tolerance
+MOTION_OPTIONS = {"chord_tol": 0.05, "period": 0.02, "tip_speed": 80.0, "corner_blend": True}
 #: Options of the planner itself.
 PLAN_OPTIONS = {"max_side": 1200, "max_pixels": 40_000_000, "joint_order": True,
                 "signals": "auto", "start": None, "fidelity": True, "budget": None}
@@ -203,6 +205,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
                                                              user_set)
     if not isinstance(place_opts["tilt"], (bool, np.bool_)):
         raise InkreachError("option tilt must be true or false")
+    if not isinstance(motion_opts["corner_blend"], (bool, np.bool_)):
+        raise InkreachError("option corner_blend must be true or false")
     budget = own["budget"] if own["budget"] is not None else limits.DEFAULT_BUDGET
     max_side = own["max_side"]
     limits.check_style_options(style, style_opts, budget, user_set)

@@ -78,5 +78,8 @@ def plan_stats(strokes, stream, report, placement, arm, style, *, start_xy=None,
         # steps or whole microseconds causes, by forward kinematics
         stats["signal_rounding_mm"] = round(
             float(np.nanmax(np.hypot(*(reached_xy - stream.xy).T))), 5)
-    stats.update(notes or {})
+    notes = dict(notes or {})
+    # warnings from the signals join those about the input, not replace them
+    stats["warnings"] += list(notes.pop("warnings", ()))
+    stats.update(notes)
     return stats

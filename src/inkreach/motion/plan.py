@@ -25,9 +25,11 @@ _STOP_BELOW = 0.5                # put a row on a corner passed slower than this
 TIP_SPEED = 80.0
 _CUT_GAP = 1.0                   # least distance between cuts, in periods at the tip speed
 _CUT_ANGLE = np.deg2rad(5.0)     # only vertices turning more than this get a row of their own
+_CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_stops)
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
+_BLEND_REPAIRS = 12              # repair rounds the corner blend gets before falling back
 
 
 def _as_strokes(strokes):
@@ -201,7 +203,40 @@ def _corner_speed(a, b, acc, period, chord_tol):
     return np.where(th > 1e-12, vc, np.inf)
 
 
-def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
+def _cut_reach(a, b, chord_tol):
+    """How far from a vertex the nearest row may lie when the rows straddle it.
+
+    Two rows at path distances ``e`` before and ``d`` after a vertex where
+    the path turns by ``th`` have their chord's midpoint at
+    ``min(e, d) sin(th) / 2`` from the two segments (plane geometry: the
+    midpoint ``(d u_b - e u_a) / 2`` lies ``d sin(th) / 2`` from the line
+    along ``u_a`` and ``e sin(th) / 2`` from the one along ``u_b``, each
+    foot on its segment when ``e <= d`` or ``d <= e`` respectively). So the
+    corner is cut by at most ``_CORNER_SHARE * chord_tol`` when the row
+    nearest the vertex lies within ``2 _CORNER_SHARE chord_tol / sin(th)``
+    of it: a chord blend of the corner inside the tolerance.
+
+    Parameters
+    ----------
+    a, b : ndarray, shape (M, 2)
+        The segments before and after each vertex, mm.
+
+    Returns
+    -------
+    ndarray, shape (M,)
+        Path distance, mm (infinite where the path does not turn).
+    """
+    la = np.hypot(a[:, 0], a[:, 1])
+    lb = np.hypot(b[:, 0], b[:, 1])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        sn = np.abs(a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]) / (la * lb)
+        e = 2 * _CORNER_SHARE * chord_tol / sn
+    # Never further than a quarter of either segment, so the rows' feet stay
+    # on the two segments next to the vertex.
+    return np.minimum(np.where(sn > 1e-12, e, np.inf), 0.25 * np.minimum(la, lb))
+
+
+def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
     """Interior vertices of a subdivided stroke that get a row of their own.
 
     A vertex is cut (a row is put exactly on it) where passing it between
@@ -226,7 +261,20 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed):
         vk = np.minimum(_NORMAL_SHARE * margin * arm.limits.max_accel * period / jump, tip_speed)
     c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
     sharp = c < np.cos(_CUT_ANGLE)
-    cuts = np.flatnonzero((vc < _STOP_BELOW * vk) & sharp) + 1
+    cuts = (vc < _STOP_BELOW * vk) & sharp
+    if blend:
+        # A cut costs about half a period (the stroke's row clock is
+        # stretched for a row to land near the vertex); passing the vertex
+        # uncut at vc instead of vf costs the dip (vf - vc)^2 / (a vf) of
+        # braking and speeding up again at the path acceleration a. Cut only
+        # where the dip costs more.
+        with np.errstate(divide="ignore", invalid="ignore"):
+            vf = np.minimum(np.minimum(vk, tip_speed),
+                            margin * arm.limits.max_speed / np.maximum(qpm[:-1], qpm[1:]))
+            a = np.minimum(acc[:-1], acc[1:])
+            dip = (vf - np.clip(vc, 0.0, vf)) ** 2 / (a * vf)
+        cuts &= ~(dip <= _CUT_COST * period)
+    cuts = np.flatnonzero(cuts) + 1
     if cuts.size < 2:
         return cuts
     # Pieces shorter than what one period covers would each be stretched to
@@ -284,8 +332,59 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     return cap * cap
 
 
-def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
-    """Time every piece, stretch each to whole periods, sample the rows."""
+def _join_windows(path, g, w, f, period, chord_tol):
+    """Per piece ending at a join: how far in time a row may miss the vertex.
+
+    :func:`_cut_reach` in path distance, over the fastest the pen can move
+    near the vertex (its speed there plus a period's worth of
+    acceleration), with a fifth kept back for rounding.
+    """
+    win = np.zeros(len(path.kind))
+    p = np.flatnonzero(path.join)
+    if p.size == 0:
+        return win
+    L, R = path.last[p], path.first[p + 1]
+    reach = _cut_reach(g["dp"][L - 1], g["dp"][R], chord_tol)
+    acc = np.maximum(g["acc"][L - 1] * f[L - 1] ** 2, g["acc"][R] * f[R] ** 2)
+    vfast = np.sqrt(w[L]) + np.where(np.isfinite(acc), acc, 0.0) * period
+    with np.errstate(divide="ignore", invalid="ignore"):
+        win[p] = np.where(vfast > 0, 0.8 * reach / vfast, np.inf)
+    return win
+
+
+def _row_times(path, dur, period, win):
+    """Where each piece starts and ends on the row clock of its stroke.
+
+    A piece not joined to another is stretched to a whole number of
+    periods. The pieces of a stroke cut at sharp vertices share one clock:
+    a piece is stretched only as far as needed for a row to land within
+    ``win`` of the vertex it ends at (zero: exactly on it), and the last
+    one to a whole number of periods. A loop over the joined pieces only.
+    """
+    n = np.where(dur > 0, np.ceil(dur / period - 1e-9), 0.0)
+    S = np.zeros(len(dur))
+    E = n * period
+    join = path.join
+    member = join.copy()
+    member[1:] |= join[:-1]
+    clock = 0.0
+    for p in np.flatnonzero(member):
+        S[p] = clock
+        t = clock + dur[p]
+        if join[p]:
+            ph = t - np.floor(t / period) * period
+            hit = ph <= win[p] or period - ph <= win[p]
+            t = t if hit else t + (period - ph - win[p])
+            clock = t
+        else:
+            t = max(t, np.ceil(t / period - 1e-9) * period)
+            clock = 0.0
+        E[p] = t
+    return S, E
+
+
+def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
+    """Time every piece, put it on the row clock, sample the rows."""
     cap2 = _vertex_caps(path, g, arm, margin, period, chord_tol, f)
     vseg = g["vseg"] * f
     acc = g["acc"] * f * f
@@ -296,24 +395,31 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell):
     tv = np.concatenate([[0.0], np.cumsum(prof["dt"])])
     t0 = tv[path.first]
     dur = tv[path.last] - t0
-    n = np.where(dur > 0, np.ceil(dur / period - 1e-9), 0).astype(int)
+    win = _join_windows(path, g, w, f, period, chord_tol) if blend else \
+        np.full(len(dur), 1e-9 * period)
+    S, E = _row_times(path, dur, period, win)
+    lo = np.floor(S / period + 1e-9).astype(int)
+    hi = np.floor(E / period + 1e-9).astype(int)
+    n = hi - lo
     dwell = path.kind == _DWELL
     n[dwell] = n_dwell
+    lo[dwell] = 0
     # Zero-order hold: the pen is commanded down on the row where the pen-up
     # move arrives at rest, so that row is the first of the lowering dwell.
     lower = np.flatnonzero(dwell & (path.pen == 1))
     early = lower[n[lower - 1] > 0] if lower.size else lower
     n[early] -= 1
     with np.errstate(divide="ignore", invalid="ignore"):
-        r = np.where(n > 0, dur / (n * period), 0.0)
+        r = np.where(E > S, dur / (E - S), 0.0)
     rp = np.repeat(np.arange(len(n)), n)
     offs = np.concatenate([[0], np.cumsum(n)[:-1]])
     k = np.arange(n.sum()) - offs[rp] + 1
-    tau = t0[rp] + k * period * r[rp]
+    tk = (lo[rp] + k) * period
+    tau = t0[rp] + (tk - S[rp]) * r[rp]
     seg = np.searchsorted(tv, tau, side="right") - 1
     seg = np.clip(seg, path.first[rp], np.maximum(path.last[rp] - 1, path.first[rp]))
     seg = np.clip(seg, 0, max(len(g["length"]) - 1, 0))
-    snap = (k == n[rp]) | dwell[rp]
+    snap = (np.abs(tk - E[rp]) <= 1e-9 * period) | (k == n[rp]) & ~path.join[rp] | dwell[rp]
     if len(g["length"]):
         u = _position_in_segment(prof, seg, tau - tv[seg])
         q = path.Q[seg] + u[:, None] * g["dq"][seg]
@@ -431,56 +537,57 @@ def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     return np.unique(np.concatenate([bad, bad + 1]))
 
 
-def _coverage_violations(q, pen, stroke, arm, strokes, chord_tol):
-    """Rows around stroke vertices that the drawn path misses by too much.
+def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
+    """Rows next to which a stroke vertex lies too far from the drawn path.
 
-    The converse of :func:`_chord_violations`: rows may stay near the stroke
-    while the chords between them cut a vertex; the final check wants every
-    vertex within ``chord_tol`` of the drawn path (rows and their joint-space
-    midpoints, in order), so rows around a missed vertex are slowed down.
+    The drawn path of a stroke runs through its pen-down rows and the
+    joint-space midpoints between them, in order; every vertex of the
+    stroke must lie within ``chord_tol`` of it (the stroke is drawn whole,
+    the rule of ``inkreach check``). Rows that cut a corner, or two close
+    corners at once, too deeply are returned to be slowed down.
     """
     from scipy.spatial import cKDTree
 
+    from ..place._geometry import _point_segment_distance
+
     kd = np.flatnonzero(pen == 1)
-    if kd.size == 0:
+    lines = [i for i, x in enumerate(strokes) if len(x) > 1]
+    if kd.size < 2 or not lines:
         return np.zeros(0, int)
     lab = stroke[kd]
     pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
-    x = arm.fk(q[kd])
-    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]]))
-    # each stroke's drawn path: row, midpoint, row, ... (midpoints only
-    # between consecutive rows of the same stroke)
-    order = np.concatenate([np.arange(len(kd)) * 2.0, np.flatnonzero(pair) * 2.0 + 1.0])
-    pts = np.concatenate([x, xm[pair]])
-    plab = np.concatenate([lab, lab[:-1][pair]])
-    srt = np.argsort(order, kind="stable")
-    pts, plab = pts[srt], plab[srt]
-    cut = np.flatnonzero(np.diff(plab)) + 1
-    paths = np.split(pts, cut)
-    ids = plab[np.r_[0, cut]]
-    drawn = [np.zeros((0, 2))] * len(strokes)
-    for i, path in zip(ids, paths):
-        drawn[int(i)] = path
-    have = [i for i, d in enumerate(drawn) if len(d)]
-    if not have:
+    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
+    pts = np.concatenate([arm.fk(q[kd]), xm])
+    order = np.argsort(np.concatenate([2 * np.arange(kd.size), 2 * np.flatnonzero(pair) + 1]),
+                       kind="stable")
+    pts = pts[order]
+    plab = np.concatenate([lab, lab[:-1][pair]])[order]
+    prow = np.concatenate([kd, kd[:-1][pair]])[order]
+    # pieces of the drawn path, without the zero-length ones of the dwells
+    same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
+    if not np.any(same):
         return np.zeros(0, int)
-    index = _StrokeIndex([drawn[i] for i in have], chord_tol)
-    verts = np.concatenate([np.asarray(strokes[i], float) for i in have])
-    vlab = np.repeat(np.arange(len(have)), [len(strokes[i]) for i in have])
-    far = index.distance(verts, vlab) > 0.99 * chord_tol
-    if not far.any():
-        return np.zeros(0, int)
-    # the rows nearest each missed vertex, within its own stroke
-    remap = np.full(len(strokes), -1)
-    remap[have] = np.arange(len(have))
-    tree = cKDTree(np.column_stack([x, remap[lab] * 1e7]))
-    _, near = tree.query(np.column_stack([verts[far], vlab[far] * 1e7]))
-    rows = kd[np.asarray(near)]
-    return np.unique(np.concatenate([rows - 1, rows, rows + 1]).clip(0, len(q) - 1))
+    A, B = pts[:-1][same], pts[1:][same]
+    slab, srow = plab[:-1][same], prow[:-1][same]
+    big = 1e7
+    tree = cKDTree(np.column_stack([0.5 * (A + B), slab * big]))
+    V = np.concatenate([strokes[i] for i in lines])
+    vlab = np.repeat(lines, [len(strokes[i]) for i in lines])
+    k = min(8, len(A))
+    _, idx = tree.query(np.column_stack([V, vlab * big]), k=k)
+    idx = idx.reshape(len(V), k)
+    d = _point_segment_distance(V[:, None, :], A[idx], B[idx])
+    d = np.where(slab[idx] == vlab[:, None], d, np.inf)
+    # (a stroke whose rows never move has no pieces: nothing to slow down)
+    bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
+    if bad.size == 0:
+        return bad
+    r = srow[idx[bad, np.argmin(d[bad], axis=1)]]
+    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
-                tip_speed=None, region=None, margin=1.0):
+                tip_speed=None, region=None, margin=1.0, corner_blend=True):
     """Plan the joint stream that draws ordered strokes.
 
     Pen-down moves follow the strokes: each is subdivided (:func:`subdivide`)
@@ -497,8 +604,18 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     ``0.4 chord_tol`` between two rows, and a change of joint direction
     must fit in one period within half the acceleration limit. A sharp
     vertex, where the corner rule would force a near stop, gets a row
-    exactly on it instead and is passed at the speed the joint direction
-    change allows, without stopping: the stroke's time between such
+    on it instead and is passed at the speed the joint direction change
+    allows, without stopping. With ``corner_blend`` (the default) the row
+    need only land near the vertex: the chord between the two rows around
+    it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
+    inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
+    stretched only as far as that needs, and only vertices whose slow-down
+    would cost more than about half a period are treated so; every stroke
+    vertex is then re-checked to lie within ``chord_tol`` of the drawn path
+    (rows and joint-space midpoints), and where the rows cannot be repaired
+    within a few rounds the whole drawing is timed without the blend.
+    Without it
+    the row lands exactly on the vertex and the stroke's time between such
     vertices is stretched to a whole number of periods. Rows whose finite
     differences still break a limit (joint speed, acceleration, or the tip
     speed from forward kinematics) are slowed down locally and re-timed.
@@ -530,6 +647,9 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     margin : float
         Fraction of the arm's speed and acceleration limits used when
         planning, in (0, 1] (default 1).
+    corner_blend : bool
+        Let the rows cut a sharp vertex within the chord tolerance instead
+        of landing exactly on it (default True); it never loosens a check.
 
     Returns
     -------
@@ -640,37 +760,45 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             return (_TRAVEL_CART, P, Q, 0, -1)
         return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1)
 
-    pieces = []
-    for i in range(n):
-        pieces.append(travel(i))
-        pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
-        if i in drawn:
-            P, Q = drawn[i]
-            cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed)
-            for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
-                pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
-        pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
-    pieces.append(travel(n))
-    path = _Path(pieces)
-    g = _geometry(path, arm, margin, tip_speed)
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
+    index = _StrokeIndex(S, chord_tol) if n else None
 
-    f = np.ones(len(g["length"]))
-    index = None
-    for _ in range(_MAX_REPAIRS):
-        q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
-                                             n_dwell)
-        rows = _stream_violations(q, period, arm)
-        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
-        if index is None and n:
-            index = _StrokeIndex(S, chord_tol)
-        if index is not None:
-            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
-            rows = np.union1d(rows, _coverage_violations(q, pen, stroke, arm, S, chord_tol))
-        if rows.size == 0:
-            break
-        if not _slow_down(f, tv, tau, rows, period):
-            break
+    def timed(blend, repairs):
+        pieces = []
+        for i in range(n):
+            pieces.append(travel(i))
+            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
+            if i in drawn:
+                P, Q = drawn[i]
+                cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend)
+                for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
+                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
+            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
+        pieces.append(travel(n))
+        path = _Path(pieces)
+        g = _geometry(path, arm, margin, tip_speed)
+        f = np.ones(len(g["length"]))
+        for _ in range(repairs):
+            q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
+                                                 n_dwell, blend)
+            rows = _stream_violations(q, period, arm)
+            rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+            if index is not None:
+                rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index,
+                                                          chord_tol))
+                if blend:
+                    rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
+            if rows.size == 0:
+                break
+            if not _slow_down(f, tv, tau, rows, period):
+                break
+        return q, pen, stroke, rows
+
+    # The blend first; where its rows cannot be repaired in a few rounds (tiny
+    # closed marks, e.g. stipple dots), the plain rows on every sharp vertex.
+    q, pen, stroke, rows = timed(True, _BLEND_REPAIRS) if corner_blend else (None,) * 4
+    if rows is None or rows.size:
+        q, pen, stroke, rows = timed(False, _MAX_REPAIRS)
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
