@@ -21,6 +21,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(HERE), "src"))
 
 # the sections, one module per seam (_speed, _quality), the targets table
 # (_targets) and the Markdown writing (_report)
+from _import_time import section_import  # noqa: E402
 from _quality import section_drawing, section_kinematics, section_route  # noqa: E402
 from _report import machine_facts, na  # noqa: E402
 from _speed import pictures, section_growth, section_memory, section_speed  # noqa: E402
@@ -66,6 +67,7 @@ def main(argv=None):
     except Exception as exc:  # noqa: BLE001
         pics = {}
         body.append(f"## Pictures\n\n{na(exc)}\n")
+    run("Package import time", section_import, cfg, results)
     run("Speed per stage", section_speed, cfg, pics, results)
     run("Peak memory end to end", section_memory, cfg, results)
     run("How cost grows", section_growth, cfg, results)
