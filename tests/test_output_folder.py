@@ -100,6 +100,18 @@ def test_a_new_plan_replaces_every_file_of_the_old_one(tmp_path):
     assert sorted(os.listdir(tmp_path)) == ["out"]  # no lock, no temporary folders
 
 
+def test_a_new_plan_takes_the_old_plans_run_record_away(tmp_path):
+    # run-log.txt and run-state.json record running the old plan; kept beside
+    # a new plan, --resume would continue the wrong stream
+    rf = _replace_folder()
+    out = tmp_path / "out"
+    rf(out, {"plan.json": "{}"})
+    (out / "run-log.txt").write_text("started\n")
+    (out / "run-state.json").write_text("{}")
+    rf(out, {"plan.json": "{\"new\": 1}"})
+    assert sorted(os.listdir(out)) == [".inkreach-manifest.json", "SAFETY.txt", "plan.json"]
+
+
 def test_a_serial_plan_then_a_five_bar_plan_leaves_no_stale_stepper_file(pic, tmp_path):
     import inkreach
     out = tmp_path / "out"

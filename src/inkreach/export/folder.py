@@ -27,8 +27,12 @@ __all__ = ["replace_folder", "check_replaceable", "MANIFEST", "WriteInterrupted"
 MANIFEST = ".inkreach-manifest.json"
 #: Names the tool writes into a plan folder, accepted as its own in a folder
 #: without a manifest (one written before manifests existed).
-_KNOWN = frozenset({"plan.json", "joints.csv", "preview.svg", "preview.png", "simulated.png",
-                    "SAFETY.txt", "servo.csv", "stepper.csv", "plan.h", MANIFEST})
+_KNOWN = frozenset({"plan.json", "joints.csv", "preview.svg", "preview.png", "order.png",
+                    "simulated.png", "SAFETY.txt", "servo.csv", "stepper.csv", "plan.h",
+                    MANIFEST})
+#: What ``inkreach run`` adds to a plan folder: the record of running that
+#: plan. It is the tool's own and leaves with the plan it belongs to.
+_RUN_FILES = frozenset({"run-log.txt", "run-state.json"})
 
 
 class WriteInterrupted(KeyboardInterrupt):
@@ -185,7 +189,7 @@ def _own_names(folder):
 def _foreign(folder, new_names):
     """Entries of ``folder`` the tool did not write."""
     own = _own_names(folder)
-    allowed = (own or set(_KNOWN)) | set(new_names) | {MANIFEST}
+    allowed = (own or set(_KNOWN)) | set(new_names) | {MANIFEST} | _RUN_FILES
     return sorted(n for n in os.listdir(folder) if n not in allowed)
 
 
