@@ -43,3 +43,21 @@ def test_page_shows_the_inked_drawing_first_and_toggles_to_the_order(browser, se
     page.click("#view-ink")
     assert page.locator("#simulated-png").is_visible()
     assert not errors, errors
+
+
+def test_page_plans_text_alone_from_its_text_field(browser, server):  # noqa: F811
+    # No file chosen: the text field is drawn alone in a single-stroke font.
+    page = browser.new_page(viewport={"width": 1280, "height": 1000})
+    errors = []
+    page.on("pageerror", lambda e: errors.append(str(e)))
+    page.goto(server)
+    page.wait_for_selector("body[data-ready='1']")
+    page.fill("#text", "Hello")
+    page.click("#plan-button")
+    page.wait_for_selector("#figures [data-stat=strokes][data-value]", timeout=120_000)
+    page.wait_for_function("document.getElementById('simulated-png').complete")
+    assert page.locator("#simulated-png").is_visible()
+    strokes = int(page.get_attribute("#figures [data-stat=strokes]", "data-value"))
+    # the Hershey letters of "Hello" are several strokes (H alone is three)
+    assert strokes >= 3
+    assert not errors, errors
