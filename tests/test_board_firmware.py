@@ -130,3 +130,30 @@ def test_python_codec_against_published_values():
     seq = bytes(range(1, 255))
     assert cobs_encode(seq) == b"\xff" + seq
     assert cobs_encode(seq + b"\xff") == b"\xff" + seq + b"\x02\xff"
+
+
+def test_the_shipped_core_compiles_as_shipped_with_the_built_in_arm_config():
+    # The portable core must compile on its own with the strict flags (gcc,
+    # -std=c99 -Wall -Wextra -Werror); the shipped inkreach_config.h is the
+    # built-in arm's, exactly as `inkreach firmware` writes it.
+    import tempfile
+
+    from inkreach.arms import default_arm
+    from inkreach.board._build import firmware_dir
+    from inkreach.board.firmware_writer import _caution
+
+    cc = shutil.which("cc") or shutil.which("gcc")
+    if cc is None:
+        pytest.skip("no C compiler")
+    fw = firmware_dir()
+    with open(os.path.join(fw, "inkreach_config.h"), encoding="utf-8") as fh:
+        assert fh.read() == config_header(board_config(default_arm(), "servo", 0.02, None),
+                                          _caution())
+    out = tempfile.mkdtemp()
+    for f in sorted(os.listdir(fw)):
+        if f.endswith(".c"):
+            r = subprocess.run([cc, "-std=c99", "-Wall", "-Wextra", "-Werror", "-c",
+                                os.path.join(fw, f), "-o", os.path.join(out, f + ".o")],
+                               capture_output=True, text=True)
+            assert r.returncode == 0, (f, r.stderr)
+    shutil.rmtree(out)

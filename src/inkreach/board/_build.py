@@ -87,10 +87,20 @@ def build(name, sources, config_text, extra_dirs=(), flags=()):
     os.makedirs(root, exist_ok=True)
     work = tempfile.mkdtemp(prefix=".build-", dir=root)
     try:
+        # The core is compiled from copies beside this arm's config header: the
+        # shipped inkreach_config.h (the built-in arm's, so the core compiles as
+        # shipped) would otherwise win the quoted include from its own folder.
+        fw = firmware_dir()
+        for f in os.listdir(fw):
+            if f.endswith((".c", ".h")):
+                shutil.copyfile(os.path.join(fw, f), os.path.join(work, f))
         with open(os.path.join(work, "inkreach_config.h"), "w", encoding="utf-8") as fh:
             fh.write(config_text)
-        cmd = [cc, *CFLAGS, *flags, "-I", work, *(a for d in inc for a in ("-I", d)),
-               "-o", os.path.join(work, name), *sources]
+        srcs = [os.path.join(work, os.path.basename(f))
+                if os.path.dirname(os.path.abspath(f)) == os.path.abspath(fw) else f
+                for f in sources]
+        cmd = [cc, *CFLAGS, *flags, "-I", work, *(a for d in inc[1:] for a in ("-I", d)),
+               "-o", os.path.join(work, name), *srcs]
         res = subprocess.run(cmd, capture_output=True, text=True)
         if res.returncode != 0:
             lines = res.stderr.strip().splitlines() or ["(no message)"]
