@@ -18,6 +18,7 @@ from fastapi.testclient import TestClient
 from inkreach.errors import InkreachError
 from inkreach.web import create_app
 from test_web_api import _picture, _png, fake_plan
+from test_web_server import start_server, stop_server
 
 
 @pytest.fixture(scope="module")
@@ -129,28 +130,6 @@ def test_environment_messages_are_one_line_each():
 
 # ---- a real server ----------------------------------------------------------------
 
-def _start(**options):
-    kw = ", ".join(f"{k}={v!r}" for k, v in options.items())
-    code = f'from inkreach.web import serve; serve(host="127.0.0.1", port=0, {kw})'
-    proc = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True,
-                            env={**os.environ, "PYTHONUNBUFFERED": "1"})
-    line = proc.stdout.readline()
-    if "http://" not in line:
-        proc.kill()
-        raise RuntimeError(f"server did not start: {line!r} {proc.stderr.read()[-2000:]}")
-    url = line.split()[line.split().index("at") + 1]
-    return proc, url
-
-
-def _stop(proc):
-    proc.terminate()
-    try:
-        proc.wait(10)
-    except subprocess.TimeoutExpired:
-        proc.kill()
-        proc.wait(5)
-
 
 def _rss_mb(pid):
     with open(f"/proc/{pid}/status") as fh:
@@ -180,7 +159,7 @@ def _stalled_upload(port, declared, send):
 
 @pytest.mark.skipif(not os.path.exists("/proc/self/status"), reason="needs Linux /proc")
 def test_stalled_uploads_are_cut_off_and_hold_little_memory():
-    proc, url = _start(body_timeout=3.0, max_uploads=4)
+    proc, url = start_server(body_timeout=3.0, max_uploads=4)
     port = int(url.rsplit(":", 1)[1].strip("/"))
     socks = []
     try:
@@ -216,7 +195,7 @@ def test_stalled_uploads_are_cut_off_and_hold_little_memory():
     finally:
         for s in socks:
             s.close()
-        _stop(proc)
+        stop_server(proc)
 
 
 def test_an_abandoned_request_stops_its_plan(png):
@@ -227,7 +206,7 @@ def test_an_abandoned_request_stops_its_plan(png):
     big = Image.fromarray((rng.random((900, 1200)) * 255).astype(np.uint8))
     buf = io.BytesIO()
     big.save(buf, "PNG")
-    proc, url = _start(workers=1)
+    proc, url = start_server(workers=1)
     port = int(url.rsplit(":", 1)[1].strip("/"))
     try:
         # a slow plan (stippling a noisy picture), abandoned after the upload
@@ -255,11 +234,11 @@ def test_an_abandoned_request_stops_its_plan(png):
         st = httpx.get(url + "api/progress/abandoned-123", timeout=10).json()["stage"]
         assert st in ("trace", "merge", "place"), st
     finally:
-        _stop(proc)
+        stop_server(proc)
 
 
 def test_idle_and_trickling_connections_are_closed_and_the_page_still_answers():
-    proc, url = _start(max_connections=4, header_timeout=1.5)
+    proc, url = start_server(max_connections=4, header_timeout=1.5)
     port = int(url.rsplit(":", 1)[1].strip("/"))
     socks = []
     try:
@@ -279,4 +258,4 @@ def test_idle_and_trickling_connections_are_closed_and_the_page_still_answers():
     finally:
         for s in socks:
             s.close()
-        _stop(proc)
+        stop_server(proc)

@@ -10,13 +10,15 @@ import pytest
 
 from test_web_api import JOINTS_HEADER, _picture, _png
 
-_LAUNCH = 'from inkreach.web import serve; serve(host="127.0.0.1", port=0)'
+def start_server(**options):
+    """Start ``inkreach.web.serve(**options)`` in a child process on a free loopback port.
 
-
-def start_server():
-    """Start ``inkreach.web.serve`` in a child process on a free port; return (proc, url)."""
+    Returns (proc, url).
+    """
+    kw = "".join(f", {k}={v!r}" for k, v in options.items())
+    launch = f'from inkreach.web import serve; serve(host="127.0.0.1", port=0{kw})'
     env = {**os.environ, "PYTHONUNBUFFERED": "1"}
-    proc = subprocess.Popen([sys.executable, "-c", _LAUNCH], stdout=subprocess.PIPE,
+    proc = subprocess.Popen([sys.executable, "-c", launch], stdout=subprocess.PIPE,
                             stderr=subprocess.PIPE, text=True, env=env)
     line = proc.stdout.readline()
     if "http://" not in line:
