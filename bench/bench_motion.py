@@ -146,7 +146,8 @@ def section_motion(cfg=None, results=None):
             maps[arm.name] = workspace_map(arm)
         _, out = run_stages(img, style, arm=arm, wmap=maps[arm.name])
         r = out["route"]
-        q0 = arm.home() if arm.home() is not None else arm.ik(out["placement"].hull.mean(0))
+        from inkreach.route import start_posture
+        q0 = start_posture(arm, out["placement"])
         hull = out["placement"].hull
         f = plan_figures(r.strokes, arm, q0, hull if len(hull) >= 3 else None, None)
         rd = f["down"] / f["ref_down"] if f["ref_down"] > 0 else float("nan")
