@@ -486,6 +486,6 @@ def _placement(arm, m, rotation, pts, S, hull):
     worst = float(np.nanmin(arm.conditioning_at(S)))
     return Placement(matrix=m, scale=scale, rotation=float(rotation), hull=_ccw(hull),
                      bbox=(float(lo[0]), float(lo[1]), float(hi[0] - lo[0]), float(hi[1] - lo[1])),
-                     worst_conditioning=worst, size_mm=(float(hi[0] - lo[0]), float(hi[1] - lo[1])))
+                     worst_conditioning=worst)
 
 
