@@ -18,7 +18,8 @@ __all__ = ["Fidelity", "fidelity", "fidelity_images", "plan_fidelity", "render_c
 
 #: Long side, in pixels, of the grid the comparison is made on.
 WORK_SIDE = 512
-#: Default blur, in pen widths: about the spacing of a hatch (common practice).
+#: Default blur, in pen widths: about the spacing of a hatch (our choice, so that hatch
+#: lines merge into tone, as the eye merges them at reading distance).
 BLUR_PEN_WIDTHS = 3.5
 
 _SSIM_SIGMA = 1.5   # Wang et al. (2004), section III-C
