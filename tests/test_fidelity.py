@@ -172,7 +172,7 @@ def _placement(matrix):
 
     m = np.asarray(matrix, float)
     scale = float(np.sqrt(abs(np.linalg.det(m[:, :2]))))
-    return Placement(m, scale, 0.0, np.zeros((1, 2)), (0.0, 0.0, 1.0, 1.0), 1.0, (1.0, 1.0))
+    return Placement(m, scale, 0.0, np.zeros((1, 2)), (0.0, 0.0, 1.0, 1.0), 1.0)
 
 
 def _stream_along(arm, paths_mm, step=0.3):

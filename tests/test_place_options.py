@@ -74,6 +74,9 @@ def test_isotropic_preference_trades_some_size_for_better_conditioning():
     big = place_drawing(RECT, arm, wmap=wmap)
     iso = place_drawing(RECT, arm, wmap=wmap, prefer="isotropic")
     assert iso.worst_conditioning >= big.worst_conditioning
+    # 0.75, from the search's own steps: the isotropic ladder's lowest rung is
+    # 0.8 of the largest scale, and the exact check may then take up to three
+    # of its 2 % shrinks (0.8 * 0.98**3 = 0.753)
     assert 0.75 * big.scale <= iso.scale <= big.scale
 
 
@@ -110,6 +113,9 @@ def test_provisional_scale_is_close_to_and_not_above_the_placed_scale(name):
     frame = [np.array([[0.0, 0.0], [w - 1, 0.0], [w - 1, h - 1], [0.0, h - 1], [0.0, 0.0]])]
     s0 = provisional_scale((w, h), arm, wmap=wmap)
     p = place_drawing(frame, arm, wmap=wmap, rotations=[0.0])
+    # 1.02: one of the exact check's 2 % shrinks, which the estimate does not
+    # take; 0.9: our bound, the estimate only sizes the pen in pixels before
+    # tracing, where 10 % moves a 2-px pen by a fifth of a pixel
     assert 0.9 * p.scale <= s0 <= 1.02 * p.scale
     assert provisional_scale((w, h), arm, wmap=wmap, size=151.0) == 1.0
     on_paper = provisional_scale((w, h), arm, wmap=wmap, paper=(-50.0, 130.0, 60.0, 60.0))

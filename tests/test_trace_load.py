@@ -378,3 +378,25 @@ def test_an_unreadable_file_names_the_system_error(tmp_path, monkeypatch):
         load_image(path)
     assert str(err.value) == ("locked.png: could not be read ([Errno 13] Permission denied); "
                               "check the file")
+
+
+def test_a_loaded_picture_is_regridded_as_its_original_would_be():
+    # Reference: OpenCV's INTER_AREA keeps the mean of linear light (area
+    # averaging); the regridded picture must have the shape and scale that
+    # loading the original at the same max_side gives, and nearly its pixels
+    # (bound ours: two area averages in a row differ from one by a small part
+    # of the local contrast; the test picture is a smooth ramp plus a square).
+    yy, xx = np.mgrid[0:900, 0:1300]
+    a = (40 + 200 * xx / 1300).astype(np.uint8)
+    a[300:600, 400:800] = 20
+    big = load_image(a, max_side=1200)
+    direct = load_image(a, max_side=512)
+    again = load_image(big, max_side=512)
+    assert again.shape == direct.shape
+    assert again.original_size == direct.original_size == (1300, 900)
+    np.testing.assert_allclose(again.scale_xy, direct.scale_xy)
+    assert again.scale == pytest.approx(direct.scale)
+    assert float(again.luminance.mean()) == pytest.approx(float(direct.luminance.mean()), abs=1e-3)
+    assert np.percentile(np.abs(again.luminance - direct.luminance), 99) < 0.05
+    assert load_image(direct, max_side=1200) is direct        # never enlarged, not copied
+    assert load_image(direct, max_side=None) is direct

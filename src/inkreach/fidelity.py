@@ -18,7 +18,8 @@ __all__ = ["Fidelity", "fidelity", "fidelity_images", "plan_fidelity", "render_c
 
 #: Long side, in pixels, of the grid the comparison is made on.
 WORK_SIDE = 512
-#: Default blur, in pen widths: about the spacing of a hatch (common practice).
+#: Default blur, in pen widths: about the spacing of a hatch (our choice, so that hatch
+#: lines merge into tone, as the eye merges them at reading distance).
 BLUR_PEN_WIDTHS = 3.5
 
 _SSIM_SIGMA = 1.5   # Wang et al. (2004), section III-C
@@ -244,18 +245,33 @@ def fidelity(plan_or_parts, image=None, *, blur_mm=None, max_side=WORK_SIDE):
     return fidelity_images(1.0 - cov, pic.luminance, blur_px)
 
 
-def _drawn_on_picture(plan_or_parts, image, max_side, supersample=4):
-    """Coverage of the arm's drawing on the picture's grid, and the grid.
+def _comparison_picture(plan_or_parts, image, max_side):
+    """The picture on the comparison grid, as the planner saw it.
 
-    Returns ``(coverage, picture, mm_per_px, pen_px)``.
+    A file, image or array is first loaded at the plan's own ``max_side``
+    (when the plan records one) and then shrunk, exactly as the planner's
+    loaded picture is, so figures recomputed from the files equal the ones
+    the plan recorded.
     """
-    from .trace import load_image
+    from .trace import Picture, load_image
 
+    if not isinstance(image, Picture):
+        work = (getattr(plan_or_parts, "options", None) or {}).get("max_side", ...)
+        if work is not ...:
+            image = load_image(image, max_side=work)
+    return load_image(image, max_side=max_side)
+
+
+def _on_comparison_grid(plan_or_parts, image, max_side, what="fidelity"):
+    """The comparison picture and the drawn pen paths on its grid.
+
+    Returns ``(picture, paths, mm_per_px, pen_px)``: paths in the picture's
+    pixels, millimetres on paper per pixel, and the pen width in pixels.
+    """
     if image is None:
-        raise InkreachError("fidelity needs the picture the plan was made from; pass image=")
+        raise InkreachError(f"{what} needs the picture the plan was made from; pass image=")
     stream, arm, placement = _parts(plan_or_parts)
-    pic = load_image(image, max_side=max_side)
-    h, w = pic.shape
+    pic = _comparison_picture(plan_or_parts, image, max_side)
     sx, sy = (float(v) for v in pic.scale_xy)
     inv = placement.inverse()
     paths = []
@@ -263,8 +279,16 @@ def _drawn_on_picture(plan_or_parts, image, max_side, supersample=4):
         uv = p @ inv[:, :2].T + inv[:, 2]                 # original picture pixels
         paths.append((uv + 0.5) * (sx, sy) - 0.5)         # comparison-grid pixels
     mm_per_px = float(placement.scale) / np.sqrt(sx * sy)  # mm per comparison pixel
-    pen_px = float(arm.pen.width_mm) / mm_per_px
-    cov = render_coverage(paths, (h, w), pen_px, supersample=supersample)
+    return pic, paths, mm_per_px, float(arm.pen.width_mm) / mm_per_px
+
+
+def _drawn_on_picture(plan_or_parts, image, max_side, supersample=4):
+    """Coverage of the arm's drawing on the picture's grid, and the grid.
+
+    Returns ``(coverage, picture, mm_per_px, pen_px)``.
+    """
+    pic, paths, mm_per_px, pen_px = _on_comparison_grid(plan_or_parts, image, max_side)
+    cov = render_coverage(paths, pic.shape, pen_px, supersample=supersample)
     return cov, pic, mm_per_px, pen_px
 
 

@@ -235,21 +235,11 @@ def line_likeness(plan_or_parts, image, style, *, max_side=LINE_WORK_SIDE):
     -------
     LineLikeness
     """
-    from .fidelity import _parts, drawn_polylines
-    from .trace import load_image
+    from .fidelity import _on_comparison_grid
 
-    if image is None:
-        raise InkreachError("the likeness needs the picture the plan was made from; pass image=")
-    stream, arm, placement = _parts(plan_or_parts)
-    pic = load_image(image, max_side=max_side)
-    sx, sy = (float(v) for v in pic.scale_xy)
-    inv = placement.inverse()
-    paths = []
-    for p in drawn_polylines(stream, arm):
-        uv = p @ inv[:, :2].T + inv[:, 2]
-        paths.append((uv + 0.5) * (sx, sy) - 0.5)
-    mm_per_px = float(placement.scale) / np.sqrt(sx * sy)
-    tol = float(arm.pen.width_mm) / mm_per_px + 1.0
+    pic, paths, _, pen_px = _on_comparison_grid(plan_or_parts, image, max_side,
+                                                what="the likeness")
+    tol = pen_px + 1.0
     return line_likeness_images(paths, picture_lines(pic.luminance, style), tol)
 
 

@@ -80,8 +80,8 @@ def measure_sheet_photo(image, arm, targets, search_mm=10.0):
     p.filterByConvexity, p.minConvexity = True, 0.8
     p.minDistBetweenBlobs = 0.5 * px_per_mm
     # ink dots are near black; the printed rings and grid are grey: only
-    # levels well below the paper count (common practice: a third of the way
-    # from ink to paper)
+    # levels well below the paper count (our choice: a third of the way
+    # from ink to paper, between the dots' black and the rings' grey)
     paper = float(np.median(gray))
     p.minThreshold = max(ink, 1.0)
     p.maxThreshold = max(ink + 0.35 * (paper - ink), p.minThreshold + 8.0)

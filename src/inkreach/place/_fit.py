@@ -108,12 +108,37 @@ def _scale_bounds(fit, unit):
     return float(min(bounds))
 
 
-def _best_position(fit, poly, conditioning, floor, iters=7):
-    """Top-left cell where the polygon fits with the highest worst conditioning.
+def _level_search(fit, polys, conditioning, floor, iters):
+    """Bisect on the conditioning level c at which some polygon still fits.
 
     The worst conditioning over a footprint is at least c exactly when the
     footprint fits the mask thresholded at c, so a bisection on c with the
-    same correlation test finds the best level. Among the positions at that
+    same correlation test finds the best level.
+
+    Returns
+    -------
+    (c, F)
+        The highest level found and the feasible top-left cells of the first
+        polygon that fits there (``None`` when only the floor was reached).
+    """
+    cond = np.nan_to_num(conditioning, nan=-1.0)
+    lo, hi = float(floor), 1.0
+    best = None
+    for _ in range(iters):
+        mid = 0.5 * (lo + hi)
+        fb = fit.sub(fit.mask & (cond >= mid))
+        Fc = next((F for F in (fit.feasible(p, fb) for p in polys) if _any(F)), None)
+        if Fc is not None:
+            lo, best = mid, Fc
+        else:
+            hi = mid
+    return lo, best
+
+
+def _best_position(fit, poly, conditioning, floor, iters=7):
+    """Top-left cell where the polygon fits with the highest worst conditioning.
+
+    The level comes from :func:`_level_search`; among the positions at that
     level the one deepest inside the set of such positions is kept.
 
     Returns
@@ -123,16 +148,8 @@ def _best_position(fit, poly, conditioning, floor, iters=7):
     F = fit.feasible(poly)
     if not _any(F):
         return None
-    cond = np.nan_to_num(conditioning, nan=-1.0)
-    lo, hi = float(floor), 1.0
-    best, best_c = F, lo
-    for _ in range(iters):
-        mid = 0.5 * (lo + hi)
-        Fc = fit.feasible(poly, fit.sub(fit.mask & (cond >= mid)))
-        if _any(Fc):
-            lo, best, best_c = mid, Fc, mid
-        else:
-            hi = mid
+    best_c, Fc = _level_search(fit, [poly], conditioning, floor, iters)
+    best = F if Fc is None else Fc
     depth = ndimage.distance_transform_edt(np.pad(best, 1))[1:-1, 1:-1]
     i, j = np.unravel_index(np.argmax(depth), depth.shape)
     return int(i), int(j), best_c
@@ -140,16 +157,7 @@ def _best_position(fit, poly, conditioning, floor, iters=7):
 
 def _best_level(fit, polys, conditioning, floor, iters=7):
     """Highest c such that some polygon of ``polys`` fits the mask at level c."""
-    cond = np.nan_to_num(conditioning, nan=-1.0)
-    lo, hi = float(floor), 1.0
-    for _ in range(iters):
-        mid = 0.5 * (lo + hi)
-        fb = fit.sub(fit.mask & (cond >= mid))
-        if any(_any(fit.feasible(p, fb)) for p in polys):
-            lo = mid
-        else:
-            hi = mid
-    return lo
+    return _level_search(fit, polys, conditioning, floor, iters)[0]
 
 
 def _any(F):

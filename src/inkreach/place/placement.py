@@ -29,15 +29,15 @@ class Placement:
         ``(x0, y0, width, height)`` of the placed content, mm.
     worst_conditioning : float
         Lowest inverse condition number over every checked point.
-    size_mm : tuple of float
-        ``(width, height)`` of the placed content's bounding box, mm.
 
     Examples
     --------
     >>> import numpy as np
     >>> m = np.array([[0.5, 0.0, 10.0], [0.0, -0.5, 200.0]])
     >>> p = Placement(m, 0.5, 0.0, np.array([[10., 150.], [60., 150.], [60., 200.], [10., 200.]]),
-    ...               (10.0, 150.0, 50.0, 50.0), 0.5, (50.0, 50.0))
+    ...               (10.0, 150.0, 50.0, 50.0), 0.5)
+    >>> p.size_mm
+    (50.0, 50.0)
     >>> p.apply(np.array([[0.0, 0.0], [100.0, 100.0]]))
     array([[ 10., 200.],
            [ 60., 150.]])
@@ -53,7 +53,11 @@ class Placement:
     hull: np.ndarray
     bbox: tuple
     worst_conditioning: float
-    size_mm: tuple
+
+    @property
+    def size_mm(self):
+        """``(width, height)`` of the placed content's bounding box, mm (``bbox[2:]``)."""
+        return (float(self.bbox[2]), float(self.bbox[3]))
 
     @property
     def flipped(self):

@@ -92,10 +92,15 @@ class StepperConfig:
             object.__setattr__(self, k, v)
 
     @property
+    def _steps_per_turn(self):
+        """Steps per whole joint turn for each motor, shape (2,)."""
+        return (np.asarray(self.steps_per_rev, float) * np.asarray(self.microsteps, float)
+                * np.asarray(self.gear_ratio, float))
+
+    @property
     def steps_per_deg(self):
         """Steps per degree of joint rotation for each motor, shape (2,)."""
-        return (np.asarray(self.steps_per_rev, float) * np.asarray(self.microsteps, float)
-                * np.asarray(self.gear_ratio, float) / 360.0)
+        return self._steps_per_turn / 360.0
 
     @property
     def step_rad(self):
@@ -155,9 +160,9 @@ def _steps_of(deg, cfg):
     """Absolute steps, rounded from the absolute target of each row (no accumulation)."""
     zero = np.asarray(cfg.zero_deg, float)
     dirs = np.asarray(cfg.direction, np.int64)
-    scale = (np.asarray(cfg.steps_per_rev, float) * np.asarray(cfg.microsteps, float)
-             * np.asarray(cfg.gear_ratio, float))
-    return dirs * np.rint((deg - zero) * scale / 360.0).astype(np.int64)
+    # (deg - zero) * turn / 360 rather than * steps_per_deg: the product first keeps
+    # whole-step targets exact, so an exact half step rounds the same on every arm
+    return dirs * np.rint((deg - zero) * cfg._steps_per_turn / 360.0).astype(np.int64)
 
 
 def reached_angles(steps, cfg):

@@ -30,7 +30,8 @@ def perceptual8(lum):
 
 
 def default_min_length(shape):
-    """Strokes shorter than about 1 % of the long side are crumbs (common practice)."""
+    """Strokes shorter than about 1 % of the long side are crumbs (our choice: under a pen
+    width or two on paper at the usual sizes, too short to read as a line)."""
     return max(3.0, 0.01 * max(shape))
 
 

@@ -9,7 +9,8 @@ from ._common import as_luminance, default_min_length, finish, perceptual8
 from .outline import noise_sigma
 
 _LOOP_FLOOR = 2.0   # closed lines narrower than this many pen widths draw as blots
-                    # with at most a pen-wide hole (common practice)
+                    # with at most a pen-wide hole (our choice: two pen widths
+                    # leave a hole no wider than the pen)
 
 
 def _lightness(lum):

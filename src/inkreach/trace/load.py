@@ -213,14 +213,31 @@ def _check_array(a, name):
     return a
 
 
+def _grid_size(w, h, max_side):
+    """``(width, height)`` of the working grid of a ``w`` x ``h`` original."""
+    f = max_side / max(h, w)
+    return max(1, int(round(w * f))), max(1, int(round(h * f)))
+
+
 def _downscale(lum, max_side):
     h, w = lum.shape
     if max_side is None or max(h, w) <= max_side:
         return lum
-    f = max_side / max(h, w)
-    nw, nh = max(1, int(round(w * f))), max(1, int(round(h * f)))
+    nw, nh = _grid_size(w, h, max_side)
     # Area averaging of linear light keeps the mean reflectance of each patch.
     return cv2.resize(lum, (nw, nh), interpolation=cv2.INTER_AREA)
+
+
+def _regrid(pic, max_side):
+    """A loaded picture on the grid its original would get at ``max_side``."""
+    w0, h0 = pic.original_size
+    h, w = pic.shape
+    if max_side is None or max(h, w) <= max_side:
+        return pic
+    nw, nh = _grid_size(w0, h0, max_side)
+    work = cv2.resize(pic.luminance, (nw, nh), interpolation=cv2.INTER_AREA)
+    return Picture(np.clip(work, 0.0, 1.0), max(nh, nw) / max(h0, w0), (w0, h0), pic.name,
+                   (nw / w0, nh / h0))
 
 
 def load_image(source, *, max_side=1200, max_pixels=40_000_000, name=None):
@@ -228,10 +245,13 @@ def load_image(source, *, max_side=1200, max_pixels=40_000_000, name=None):
 
     Parameters
     ----------
-    source : str, os.PathLike, PIL.Image.Image or ndarray
+    source : str, os.PathLike, PIL.Image.Image, ndarray or Picture
         A file (PNG, JPEG, WebP, TIFF, BMP, GIF: first frame), a Pillow
         image, or an array ``(H, W)`` / ``(H, W, 3 | 4)`` of sRGB-encoded
-        values (uint8, uint16, or float in [0, 1]).
+        values (uint8, uint16, or float in [0, 1]). A `Picture` already
+        loaded is not read again: it comes back on the grid that loading
+        its original at ``max_side`` gives (shrunk from its own grid by area
+        averaging), or as it is when its grid is already no larger.
     max_side : int or None, optional
         The working grid's long side is at most this many pixels; larger
         pictures are shrunk by area averaging in linear light.
@@ -272,6 +292,8 @@ def load_image(source, *, max_side=1200, max_pixels=40_000_000, name=None):
     """
     if max_side is not None and max_side < MIN_SIDE:
         raise InkreachError(f"max_side must be at least {MIN_SIDE} pixels, not {max_side}")
+    if isinstance(source, Picture):
+        return _regrid(source, max_side)
     if isinstance(source, (str, os.PathLike)):
         im, default = _open_path(source, max_pixels)
         label = name or default

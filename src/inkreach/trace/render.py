@@ -8,6 +8,37 @@ __all__ = ["render_strokes"]
 _SHIFT = 4  # sub-pixel bits for OpenCV's drawing calls
 
 
+def _disc_kernel(radius, samples=8):
+    """Share of each sub-pixel inside a disc of ``radius`` sub-pixels about the centre one."""
+    n = int(np.ceil(radius - 0.5))
+    u = (np.arange(samples) + 0.5) / samples - 0.5
+    c = np.arange(-n, n + 1, dtype=float)
+    x = (c[:, None] + u[None, :]).ravel()              # sample abscissae of every sub-pixel
+    inside = (x[:, None] ** 2 + x[None, :] ** 2) <= radius * radius
+    k = inside.reshape(2 * n + 1, samples, 2 * n + 1, samples).mean(axis=(1, 3))
+    return k.astype(np.float32)
+
+
+def _dot_coverage(centres, shape, ss, radius):
+    """Coverage of pen dots at sub-pixel ``centres`` (sub-pixel units, rounded to one)."""
+    h, w = shape
+    ij = np.rint(centres).astype(np.int64)
+    k = _disc_kernel(radius)
+    m = k.shape[0] // 2
+    # dots whose centre is off the canvas can still reach it: pad by the kernel's half width
+    pad = np.zeros((h * ss + 2 * m, w * ss + 2 * m), np.float32)
+    ij2 = ij + m
+    ok2 = ((ij2[:, 0] >= 0) & (ij2[:, 0] < w * ss + 2 * m)
+           & (ij2[:, 1] >= 0) & (ij2[:, 1] < h * ss + 2 * m))
+    pad[ij2[ok2, 1], ij2[ok2, 0]] = 1.0      # dots on one sub-pixel are one dot
+    ink = cv2.filter2D(pad, cv2.CV_32F, k, borderType=cv2.BORDER_CONSTANT)[m:m + h * ss, m:m + w * ss]
+    np.clip(ink, 0.0, 1.0, out=ink)
+    ink[ink < 1e-6] = 0.0                     # the transform's rounding far from any dot
+    if ss > 1:
+        ink = cv2.resize(ink, (w, h), interpolation=cv2.INTER_AREA)
+    return ink
+
+
 def render_strokes(strokes, shape, pen_px, supersample=4):
     """Fraction of each pixel covered by ink from a round pen.
 
@@ -19,6 +50,9 @@ def render_strokes(strokes, shape, pen_px, supersample=4):
     drawn at the two odd widths either side of ``pen_px * supersample`` and
     the two coverages are mixed in proportion; that is exact in area wherever
     lines do not overlap, and one drawing call per width draws every stroke.
+    Dots are stamped all at once: the sub-pixels holding a dot centre,
+    convolved with the disc's sub-pixel coverage (so each dot's ink
+    is the disc's area), clipped at full ink where dots overlap.
 
     Parameters
     ----------
@@ -78,13 +112,5 @@ def render_strokes(strokes, shape, pen_px, supersample=4):
             canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
         cov += np.float32(weight / 255.0) * canvas
     if dots:
-        # a dot is a filled disc of the pen's diameter; OpenCV fills every
-        # sub-pixel centre within the radius, about half a sub-pixel wide
-        canvas = np.zeros((h * ss, w * ss), dtype=np.uint8)
-        r = int(round(max(0.5 * width - 0.5, 0.0) * one))
-        for c in dots:
-            cv2.circle(canvas, (int(c[0]), int(c[1])), r, 255, -1, cv2.LINE_8, _SHIFT)
-        if ss > 1:
-            canvas = cv2.resize(canvas, (w, h), interpolation=cv2.INTER_AREA)
-        cov = np.maximum(cov, canvas.astype(np.float32) / 255.0)
+        cov = np.maximum(cov, _dot_coverage(np.array(dots) / one, (h, w), ss, 0.5 * width))
     return np.clip(cov, 0.0, 1.0)
