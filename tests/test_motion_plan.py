@@ -258,3 +258,84 @@ def test_every_stroke_vertex_lies_near_the_drawn_path():
             path = np.repeat(x, 2, axis=0)
         worst = max(worst, _point_polyline_distance(np.asarray(stroke, float), path).max())
     assert worst <= tol
+
+
+# Cases found by mutation testing (tests/MUTATION.md): each refusal of
+# plan_motion has its own whole line (the house rule for bad input: what is
+# wrong and what to do), and the edge of each accepted range is accepted.
+
+@pytest.mark.parametrize("kw, line", [
+    ({"period": 0}, "period must be greater than zero, got 0.0"),
+    ({"chord_tol": -1}, "chord_tol must be greater than zero, got -1"),
+    ({"margin": 1.5}, "margin must be in (0, 1], got 1.5; 1 (the default) uses the arm's "
+                      "limits as they are"),
+    ({"tip_speed": 0}, "tip_speed must be greater than zero, got 0.0"),
+    ({"region": [[0.0, 100.0], [10.0, 100.0]]},
+     "region must be an (M, 2) convex polygon with M >= 3"),
+    ({"period": 0.015}, "period 0.015 s is not a whole number of servo frames (20 ms at "
+                        "50 Hz); use 0.02, 0.04 or 0.06 s"),
+])
+def test_each_bad_option_is_refused_with_its_own_line(kw, line):
+    arm = load_arm("default")          # its [servo] table: frame_hz = 50
+    with pytest.raises(InkreachError) as err:
+        plan_motion([np.array([[0.0, 150.0], [10.0, 150.0]])], arm, **kw)
+    assert str(err.value) == line
+
+
+def test_a_servo_table_without_frame_hz_means_50_hz_frames():
+    # 50 Hz is the hobby-servo frame rate (common practice), the documented
+    # default of [servo] frame_hz.
+    from dataclasses import replace
+    arm = replace(load_arm("default"), hardware={"servo": {"pen_up_us": 1200.0}})
+    line = [np.array([[0.0, 150.0], [10.0, 150.0]])]
+    with pytest.raises(InkreachError, match=r"\(20 ms at 50 Hz\); use 0\.02, 0\.04"):
+        plan_motion(line, arm, period=0.015)
+    assert plan_motion(line, arm, period=0.04).period == 0.04
+
+
+def test_a_triangle_is_a_region():
+    # The smallest convex polygon has three corners.
+    arm, box = _arm_and_box("default")
+    tri = box[:3]
+    c = tri.mean(axis=0)
+    line = [np.stack([c, c + 0.2 * (tri[1] - c)])]
+    s = plan_motion(line, arm, region=tri)
+    check_stream(s, arm, strokes=line)
+
+
+def test_an_unreachable_point_is_named_by_its_own_stroke_and_index():
+    arm = load_arm("default")
+    ok = np.array([[0.0, 150.0], [10.0, 150.0]])
+    with pytest.raises(InkreachError) as err:
+        plan_motion([ok, np.array([[0.0, 150.0], [5.0, 150.0], [0.0, 5.0]])], arm)
+    assert str(err.value).startswith("stroke 1, point 2 at (0.00, 5.00) mm cannot be reached "
+                                     "safely")
+
+
+def test_rest_postures_outside_or_badly_conditioned_are_refused_with_their_lines():
+    arm = load_arm("default")
+    line = [np.array([[0.0, 150.0], [10.0, 150.0]])]
+    with pytest.raises(InkreachError) as err:
+        plan_motion(line, arm, start=np.radians([0.0, 60.0]))
+    assert str(err.value) == ("the start posture (0.00, 60.00) deg is outside the joint limits "
+                              "or does not assemble; give angles inside the limits")
+    # a posture inside the limits below the conditioning floor, found on a 1 deg grid
+    g = np.radians(np.stack(np.meshgrid(np.arange(30.0, 211.0), np.arange(-30.0, 151.0)),
+                            -1).reshape(-1, 2))
+    ok = arm.within_limits(g) & np.isfinite(arm.fk(g)).all(axis=1)
+    c = np.where(ok, arm.conditioning(g), np.inf)
+    low = g[np.flatnonzero(c < arm.limits.min_conditioning)[0]]
+    with pytest.raises(InkreachError) as err:
+        plan_motion(line, arm, end=low)
+    c0 = float(arm.conditioning(low))
+    assert str(err.value) == (f"the end posture ({np.degrees(low[0]):.2f}, "
+                              f"{np.degrees(low[1]):.2f}) deg has conditioning {c0:.3f}, below "
+                              f"the floor {arm.limits.min_conditioning:g}; pick a rest posture "
+                              "in the well-conditioned region")
+
+
+def test_nothing_to_draw_without_a_rest_posture_says_what_to_set():
+    with pytest.raises(InkreachError) as err:
+        plan_motion([], load_arm("serial"))
+    assert str(err.value) == ("nothing to draw and no rest posture; give start or set [home] "
+                              "in the arm file")
