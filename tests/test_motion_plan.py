@@ -339,3 +339,39 @@ def test_nothing_to_draw_without_a_rest_posture_says_what_to_set():
         plan_motion([], load_arm("serial"))
     assert str(err.value) == ("nothing to draw and no rest posture; give start or set [home] "
                               "in the arm file")
+
+
+def test_without_a_region_the_straight_fallback_is_probed_along_the_line():
+    # As in the fallback test above but with no region given: the straight
+    # line between the corners is probed point by point and taken.
+    arm = load_arm("wide")
+    r = largest_rectangle(workspace_map(arm, cells=150))
+    box = r.center + 0.95 * (r.corners() - r.center)
+    a, b = box[0], box[1]
+    strokes = [a[None], b[None]]
+    s = plan_motion(strokes, arm)
+    i0 = np.flatnonzero(s.stroke == 0)[-1]
+    i1 = np.flatnonzero(s.stroke == 1)[0]
+    assert _polyline_distance(s.xy[i0:i1 + 1], np.array([a, b])).max() <= 0.05
+    check_stream(s, arm, strokes=strokes)
+
+
+def test_a_pen_up_move_with_no_usable_path_is_refused_with_its_line():
+    # Two reachable points on the wide arm whose straight line crosses the
+    # unreachable middle and whose joint-space line leaves the limits or the
+    # conditioning floor (both checked here on the arm itself).
+    arm = load_arm("wide")
+    a, b = np.array([85.0, 105.0]), np.array([-90.0, 100.0])
+    assert arm.reachable(np.stack([a, b])).all()
+    u = np.linspace(0.0, 1.0, 401)[:, None]
+    assert not arm.reachable(a + u * (b - a)).all()
+    q = arm.ik(np.stack([a, b]))
+    qq = q[0] + u * (q[1] - q[0])
+    assert not (arm.within_limits(qq).all()
+                and (arm.conditioning(qq) >= arm.limits.min_conditioning).all())
+    with pytest.raises(InkreachError) as err:
+        plan_motion([a[None], b[None]], arm)
+    assert str(err.value) == (
+        "the pen-up move from (85.0, 105.0) to (-90.0, 100.0) mm leaves the usable region both "
+        "as a joint-space and as a straight move; place the drawing in the well-conditioned "
+        "region or change the rest posture")
