@@ -353,6 +353,7 @@ def test_without_a_region_the_straight_fallback_is_probed_along_the_line():
     i0 = np.flatnonzero(s.stroke == 0)[-1]
     i1 = np.flatnonzero(s.stroke == 1)[0]
     assert _polyline_distance(s.xy[i0:i1 + 1], np.array([a, b])).max() <= 0.05
+    assert np.all(s.stroke[s.pen == 0] == -1)    # JointStream: -1 for pen-up rows
     check_stream(s, arm, strokes=strokes)
 
 
@@ -375,3 +376,26 @@ def test_a_pen_up_move_with_no_usable_path_is_refused_with_its_line():
         "the pen-up move from (85.0, 105.0) to (-90.0, 100.0) mm leaves the usable region both "
         "as a joint-space and as a straight move; place the drawing in the well-conditioned "
         "region or change the rest posture")
+
+
+def test_a_pen_quicker_than_one_period_still_dwells_one_row():
+    # Zero-order hold: a pen that lowers in 10 ms is commanded down for one
+    # whole 20 ms row, ceil(lift_s / T) = 1, not two.
+    from dataclasses import replace
+    arm, box = _arm_and_box("default")
+    arm = replace(arm, pen=replace(arm.pen, lift_s=0.01))
+    dot = [box.mean(axis=0)[None]]
+    s = plan_motion(dot, arm)
+    assert int((s.pen == 1).sum()) == 1
+    check_stream(s, arm, strokes=dot)
+
+
+def test_the_plan_is_held_to_its_own_chord_tolerance():
+    # A looser chord_tol lets the joint-space chords stray further (their
+    # sagitta grows with the row spacing), and plan_motion's own final check
+    # uses that tolerance, not the default 0.05 mm.
+    arm = load_arm("default")
+    line = [np.array([[-60.0, 120.0], [60.0, 120.0]])]
+    s = plan_motion(line, arm, chord_tol=0.3)
+    r = check_stream(s, arm, strokes=line, chord_tol=0.3)
+    assert 0.05 < r.max_deviation_mm <= 0.3
