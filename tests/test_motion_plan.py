@@ -399,3 +399,93 @@ def test_the_plan_is_held_to_its_own_chord_tolerance():
     s = plan_motion(line, arm, chord_tol=0.3)
     r = check_stream(s, arm, strokes=line, chord_tol=0.3)
     assert 0.05 < r.max_deviation_mm <= 0.3
+
+
+def test_the_tip_speed_repair_names_fast_pen_down_pairs_of_one_stroke():
+    # Pen speed of a row pair = |fk(q[k+1]) - fk(q[k])| / T (finite
+    # differences, Craig 2005, ch. 7), counted only while the pen is down on
+    # one stroke. Pairs within 1e-9 relative under the limit are named too (a
+    # margin chosen so a repaired stream passes the final check, which allows
+    # 1e-9 over).
+    from inkreach.motion.plan import _tip_violations
+    arm = load_arm("default")
+    q = np.tile(np.radians([120.0, 60.0]), (6, 1))
+    q[:, 0] += np.radians(0.5) * np.arange(6)
+    pen = np.array([0, 1, 1, 1, 1, 0], np.int8)
+    stroke = np.array([-1, 0, 0, 1, 1, -1])
+    sp = np.hypot(*np.diff(arm.fk(q), axis=0).T) / 0.02
+    # pairs (1, 2) and (3, 4) are drawing pairs; (2, 3) joins two strokes
+    assert _tip_violations(q, pen, stroke, 0.02, arm, 0.5 * sp.min()).tolist() == [1, 2, 3, 4]
+    assert _tip_violations(q, pen, stroke, 0.02, arm, 2.0 * sp.max()).tolist() == []
+    at = float(sp[1]) * (1 + 0.5e-9)           # just over pair (1, 2)'s speed
+    assert _tip_violations(q, pen, stroke, 0.02, arm, at).tolist()[:2] == [1, 2]
+    assert _tip_violations(q[:1], pen[:1], stroke[:1], 0.02, arm, 1.0).tolist() == []
+
+
+def test_the_chord_repair_names_rows_and_midpoints_off_their_stroke():
+    # The same rule as the final check: a pen-down row, or the joint-space
+    # midpoint of two consecutive rows of one stroke, farther than chord_tol
+    # (less 1 % headroom) from its stroke names both rows of its pair.
+    from inkreach.motion.plan import _StrokeIndex, _chord_violations
+    arm = load_arm("default")
+    line = np.array([[-20.0, 150.0], [20.0, 150.0]])
+    idx = _StrokeIndex([line], 0.05)
+    x = np.column_stack([np.linspace(-20.0, 20.0, 41), np.full(41, 150.0)])
+    q = arm.ik(x)
+    pen, lab = np.ones(41, np.int8), np.zeros(41, int)
+    assert _chord_violations(q, pen, lab, arm, idx, 0.05).tolist() == []
+    x[20, 1] += 0.06                        # one row 0.06 mm off; its midpoints ~0.03 mm
+    assert _chord_violations(arm.ik(x), pen, lab, arm, idx, 0.05).tolist() == [20, 21]
+    # two rows at the ends: on the line, but the joint-space midpoint sags off it
+    q2 = arm.ik(line)
+    sag = _polyline_distance(arm.fk(0.5 * (q2[:1] + q2[1:])), line).max()
+    assert sag > 0.05
+    assert _chord_violations(q2, pen[:2], lab[:2], arm, idx, 0.05).tolist() == [0, 1]
+    # two strokes drawn back to back: no midpoint between rows of different strokes
+    s0, s1 = np.array([[-20.0, 150.0], [0.0, 150.0]]), np.array([[0.0, 160.0], [20.0, 160.0]])
+    pts = np.concatenate([np.column_stack([np.linspace(-20.0, 0.0, 21), np.full(21, 150.0)]),
+                          np.column_stack([np.linspace(0.0, 20.0, 21), np.full(21, 160.0)])])
+    two = _StrokeIndex([s0, s1], 0.05)
+    assert _chord_violations(arm.ik(pts), np.ones(42, np.int8), np.repeat([0, 1], 21), arm,
+                             two, 0.05).tolist() == []
+
+
+def test_the_vertex_repair_names_the_rows_around_a_cut_corner():
+    # The rule of the saved-plan check: every stroke vertex lies within
+    # chord_tol of the drawn path (rows and joint-space midpoints, in order).
+    # Rows that jump over the apex of a corner leave it 1 mm away; the rows
+    # around the jump (one before to two after its first row) are named.
+    from inkreach.motion.plan import _vertex_misses
+    arm = load_arm("default")
+    corner = np.array([[-10.0, 150.0], [0.0, 160.0], [10.0, 150.0]])
+    xs = np.r_[np.arange(-10.0, 0.0), np.arange(1.0, 11.0)]        # no row at x = 0
+    x = np.column_stack([xs, 160.0 - np.abs(xs)])
+    n = len(x)
+    pen, lab = np.ones(n, np.int8), np.zeros(n, int)
+    assert _vertex_misses(arm.ik(x), pen, lab, arm, [corner], 0.05).tolist() == [8, 9, 10, 11]
+    full = np.column_stack([np.arange(-10.0, 11.0), 160.0 - np.abs(np.arange(-10.0, 11.0))])
+    assert _vertex_misses(arm.ik(full), np.ones(21, np.int8), np.zeros(21, int), arm, [corner],
+                          0.05).tolist() == []
+    # two rows at the ends only: both named, and no row before the first
+    two = arm.ik(corner[[0, 2]])
+    assert _vertex_misses(two, pen[:2], lab[:2], arm, [corner], 0.05).tolist() == [0, 1]
+    # rows that never move draw no path: nothing to slow down
+    still = np.repeat(arm.ik(corner[:1]), 3, axis=0)
+    assert _vertex_misses(still, pen[:3], lab[:3], arm, [corner], 0.05).tolist() == []
+    # a stroke through the joint-space midpoint of its two rows is drawn whole:
+    # the midpoint is part of the drawn path (the check's rule), the chord is not
+    ends = np.array([[-20.0, 150.0], [20.0, 150.0]])
+    qe = arm.ik(ends)
+    mid = arm.fk(0.5 * (qe[:1] + qe[1:]))[0]
+    assert _polyline_distance(mid[None], ends).max() > 0.05
+    bent = np.array([ends[0], mid, ends[1]])
+    assert _vertex_misses(qe, pen[:2], lab[:2], arm, [bent], 0.05).tolist() == []
+    # two strokes drawn back to back: the midpoint between them belongs to neither,
+    # so stroke 0's last vertex, never reached, is still named
+    s0 = np.array([[-20.0, 150.0], [0.0, 150.0], [0.0, 155.0]])
+    s1 = np.array([[0.0, 160.0], [20.0, 160.0]])
+    pts = np.concatenate([np.column_stack([np.linspace(-20.0, 0.0, 21), np.full(21, 150.0)]),
+                          np.column_stack([np.linspace(0.0, 20.0, 21), np.full(21, 160.0)])])
+    got = _vertex_misses(arm.ik(pts), np.ones(42, np.int8), np.repeat([0, 1], 21), arm,
+                         [s0, s1], 0.05).tolist()
+    assert got and max(got) <= 22, got
