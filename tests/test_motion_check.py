@@ -272,7 +272,7 @@ def test_two_strokes_and_a_dot_pass_with_exact_ends_and_a_full_report():
 
 
 # --- cases found by mutation testing after the tip-speed check and the repair
-# helper were added (tests/MUTATION.md) -------------------------------------
+# function were added (tests/MUTATION.md) -----------------------------------
 
 def test_the_tip_speed_rule_its_message_and_its_figure():
     # Pen speed = |x[k+1] - x[k]| / T over pen-down pairs of one stroke (finite
@@ -299,8 +299,8 @@ def _ramp(speed, n=6):
     return q
 
 
-def test_the_repair_helper_flags_speeds_within_the_rounding_margin():
-    # The helper tightens each limit by what rounding the angles to 1e-4 deg
+def test_the_repair_rows_include_speeds_within_the_rounding_margin():
+    # _stream_violations tightens each limit by what rounding the angles to 1e-4 deg
     # can add to a finite difference (r / T for a speed, 2 r / T^2 for an
     # acceleration, r = 1e-4 deg: the bound on the sum of rounded values,
     # common practice), so its limit-passing rows are found before writing.
