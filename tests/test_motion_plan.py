@@ -489,3 +489,26 @@ def test_the_vertex_repair_names_the_rows_around_a_cut_corner():
     got = _vertex_misses(arm.ik(pts), np.ones(42, np.int8), np.repeat([0, 1], 21), arm,
                          [s0, s1], 0.05).tolist()
     assert got and max(got) <= 22, got
+
+
+def test_joint_space_pen_up_moves_are_probed_for_limits_and_conditioning():
+    # A pen-up move along the joint-space line is usable when every probed
+    # posture is inside the joint limits, assembles, and meets the
+    # conditioning floor; several moves are probed at once, each on its own.
+    from inkreach.motion.plan import _joint_moves_ok
+    arm = load_arm("default")
+    deg = np.array([[[120.0, 60.0], [110.0, 50.0]],      # inside, well conditioned
+                    [[200.0, -20.0], [212.0, -30.0]],    # ends past theta1's 210 deg
+                    [[40.0, -20.0], [30.0, -30.0]],      # ends below the floor
+                    [[180.0, 100.0], [200.0, 100.0]]])   # inside, up to 10 deg from a limit
+    qa, qb = np.radians(deg[:, 0]), np.radians(deg[:, 1])
+    u = np.linspace(0.0, 1.0, 101)[:, None]
+    line = qa[1] + u * (qb[1] - qa[1])
+    # the second move fails on the limits alone: it assembles and is well conditioned
+    assert not arm.within_limits(qb[1:2]).all()
+    assert (arm.conditioning(line) >= arm.limits.min_conditioning).all()
+    assert np.isfinite(arm.fk(line)).all()
+    assert arm.conditioning(qb[2:3])[0] < arm.limits.min_conditioning
+    last = qa[3] + u * (qb[3] - qa[3])
+    assert (arm.conditioning(last) >= arm.limits.min_conditioning).all()
+    assert _joint_moves_ok(arm, qa, qb).tolist() == [True, False, False, True]
