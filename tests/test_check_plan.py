@@ -666,3 +666,302 @@ def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved, tmp_path):
     res = check_plan(p)
     _only(res, "strokes")
     assert "the pen between this row and the next is" in res.problem
+
+
+# Third round of cases found by mutation testing: the exact size of each
+# slack (half a printed unit, carried through the kinematics), the details
+# of each message, and rare but valid inputs (a dot drawn by a single
+# pen-down row, a plan without two pen-down rows in a row, numbers written
+# as strings or in exponent notation without a decimal point).
+
+_H_Q = np.radians(0.5e-6)      # half a unit of the 6-decimal angle columns, rad
+
+
+def _fk_slack(arm, q):
+    """sigma_max * h * sqrt(2) + 1e-9 mm: the pen shift of two angles rounded by h.
+
+    |J dq| <= sigma_max |dq| (the 2-norm bound, Golub & Van Loan, Matrix
+    Computations, sec. 2.3) with |dq| <= h sqrt(2); the 1e-9 mm float term
+    is the check's own stated constant.
+    """
+    smax = np.linalg.svd(arm.jacobian(q), compute_uv=False)[:, 0]
+    return smax * _H_Q * np.sqrt(2) + 1e-9
+
+
+def _dot_plan(p, rows, stroke, chord_tol=None):
+    """Keep the pen down on ``rows`` only and record ``stroke`` as the one stroke."""
+    r = _rows(p)
+    r[:, 3] = 0
+    r[rows, 3] = 1
+    _write_rows(p, r)
+    m = _meta(p)
+    m["strokes"] = [stroke]
+    if chord_tol is not None:
+        m["options"]["chord_tol"] = chord_tol
+    _write_meta(p, m)
+    return r, m
+
+
+def _rest_rows(r, n):
+    """First n consecutive rows at one posture (the touch-down dwell of the plan)."""
+    same = np.all(np.diff(r[:, 1:3], axis=0) == 0, axis=1)
+    for k in range(len(same) - n + 2):
+        if same[k:k + n - 1].all():
+            return np.arange(k, k + n)
+    pytest.skip(f"no {n} rows at rest in this plan")
+
+
+def test_a_dot_is_held_to_the_stroke_point_rounding_on_every_rule(saved, tmp_path):
+    # Four rows at rest draw a one-point stroke p at the printed grid point
+    # nearest to the pen, so rows, joint-space midpoints and the stroke point
+    # are all d <= h sqrt(2) from it (h = 0.5e-4 mm, half the last printed
+    # place). With chord_tol = d every rule passes only by the stroke
+    # rounding slack h sqrt(2); without it (or with it subtracted) the dot
+    # is refused.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    rows = _rest_rows(_rows(p), 4)
+    r = _rows(p)
+    arm = parse_arm(_meta(p)["arm"])
+    x = arm.fk(np.radians(r[rows[0]:rows[0] + 1, 1:3]))[0]
+    dot = np.round(x, 4)
+    d = float(np.hypot(*(x - dot)))
+    assert d <= 0.5e-4 * np.sqrt(2)
+    _dot_plan(p, rows, [dot.tolist()], chord_tol=d)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["strokes"].startswith("1 pen-down runs for 1 strokes")
+
+
+def test_a_stroke_point_off_the_dot_by_the_vertex_slack_is_refused(saved, tmp_path):
+    # One pen-down row; the stroke goes out to a point v and back. v is
+    # chord_tol + h sqrt(2) + 2.5 fk_slack from the pen: past the vertex rule's
+    # slack of two FK roundings (a path point between two rows), so the
+    # stroke is not drawn whole; 0.5 fk_slack under it, it passes.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    k = int(_rest_rows(r, 2)[0])
+    arm = parse_arm(_meta(p)["arm"])
+    q = np.radians(r[k:k + 1, 1:3])
+    x = arm.fk(q)[0]
+    fk = float(_fk_slack(arm, q)[0])
+    dot = np.round(x, 4)
+    v = dot + [0.01, 0.0]
+    dv = float(np.hypot(*(v - x)))
+    s_slack = 0.5e-4 * np.sqrt(2)
+    for extra, refused in ((2.5, True), (1.5, False)):
+        _dot_plan(p, [k], [dot.tolist(), v.tolist(), dot.tolist()],
+                  chord_tol=dv - s_slack - extra * fk)
+        res = check_plan(p)
+        if refused:
+            _only(res, "strokes")
+            assert "point 1 of stroke 0" in res.problem and "not drawn whole" in res.problem
+        else:
+            assert res.ok, res.problem
+
+
+def test_a_dot_touching_down_past_the_rounding_slack_is_refused(saved, tmp_path):
+    # A one-row dot whose stroke point is 1.55 to 1.65 half-units from the
+    # pen: beyond h sqrt(2) (+ fk_slack, under 0.1 h here), the most two
+    # coordinates rounded to half a unit can hide (common practice for
+    # rounded decimals), so the touch-down is refused.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    arm = parse_arm(_meta(p)["arm"])
+    q = np.radians(r[:, 1:3])
+    x = arm.fk(q)
+    h = 0.5e-4
+    assert _fk_slack(arm, q).max() < 0.1 * h
+    grid = np.round(x, 4)[:, None, :] + 1e-4 * np.array(
+        [[i, j] for i in (-2, -1, 0, 1, 2) for j in (-2, -1, 0, 1, 2)])[None]
+    dist = np.hypot(*(grid - x[:, None, :]).transpose(2, 0, 1))
+    k, c = np.argwhere((dist > 1.55 * h) & (dist < 1.65 * h))[0]
+    _dot_plan(p, [int(k)], [np.round(grid[k, c], 4).tolist()])
+    res = check_plan(p)
+    _only(res, "strokes")
+    assert "touches down" in res.problem
+
+
+def test_a_single_row_far_off_its_stroke_is_named(saved, tmp_path):
+    # One pen-down row 0.5 mm off its two-point stroke: one bad row, and the
+    # check names it with its slack, and does not fail on its own arrays.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    k = int(_rest_rows(r, 2)[0])
+    x = r[k, 4:6]
+    _dot_plan(p, [k], [(x + [0.5, 0.0]).tolist(), (x + [0.5, 0.1]).tolist()])
+    res = check_plan(p)
+    _only(res, "strokes")
+    m = _meta(p)
+    m["strokes"] = [[x.tolist(), (x + [0.0, 0.4]).tolist(), x.tolist()]]
+    m["options"]["chord_tol"] = 1e-3
+    _write_meta(p, m)
+    res = check_plan(p)           # the row on the stroke, the far point not drawn
+    _only(res, "strokes")
+    assert "point 1 of stroke 0" in res.problem
+
+
+def test_the_lift_message_prints_the_stroke_rounding_slack(saved, tmp_path):
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["strokes"][0] = _shift_end(m["strokes"][0], False, 0.01)
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "strokes")
+    slack = float(res.problem.rsplit("(slack ", 1)[1].split(" mm")[0])
+    # h sqrt(2) for the stroke's 4-decimal points plus a few 1e-6 mm of FK rounding
+    assert 0.5e-4 * np.sqrt(2) <= slack <= 0.5e-4 * np.sqrt(2) + 1e-5, res.problem
+
+
+def test_the_worst_stroke_distance_figure_is_over_every_stroke(saved, tmp_path):
+    # The figure is the largest distance of any row or joint-space midpoint
+    # from its stroke, measured here with the planner's arm and the written
+    # out distance above.
+    from inkreach.arms import parse_arm
+    m = _meta(saved)
+    r = _rows(saved)
+    arm = parse_arm(m["arm"])
+    q = np.radians(r[:, 1:3])
+    down = r[:, 3] == 1
+    starts = np.flatnonzero(down & ~np.r_[False, down[:-1]])
+    ends = np.flatnonzero(down & ~np.r_[down[1:], False])
+    per = []
+    for s, k0, k1 in zip(m["strokes"], starts, ends):
+        s = np.asarray(s, float)
+        mid = arm.fk(0.5 * (q[k0:k1] + q[k0 + 1:k1 + 1]))
+        per.append(max(_segment_distance(arm.fk(q[k0:k1 + 1]), s).max(),
+                       _segment_distance(mid, s).max()))
+    assert len(per) >= 2 and np.argmax(per) != len(per) - 1, per   # not the last stroke
+    fig = check_plan(saved).figures["strokes"]
+    assert f"worst distance from its stroke {max(per):.4f} mm" in fig, fig
+
+
+def test_the_tip_speed_message_names_the_second_row_of_the_first_fast_pair(saved, tmp_path):
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    x = parse_arm(m["arm"]).fk(np.radians(r[:, 1:3]))
+    down = (r[:-1, 3] == 1) & (r[1:, 3] == 1)
+    speed = np.hypot(*np.diff(x, axis=0).T) / 0.02
+    tip = float(speed[down].max()) - 0.05
+    k = int(np.flatnonzero(down & (speed > tip + 0.01))[0])
+    m["options"]["tip_speed"] = tip
+    _write_meta(p, m)
+    res = check_plan(p)
+    _only(res, "tip speed")
+    # pair (k, k + 1) is measured at row k + 1, line k + 3 of joints.csv
+    assert res.problem.startswith(f"tip speed: row {k + 3} of joints.csv"), res.problem
+
+
+def test_the_tip_speed_slack_is_each_pairs_own_fk_rounding(saved, tmp_path):
+    # The limit that a drawing pair (k, k + 1) can just meet is its speed less
+    # (fk_slack[k] + fk_slack[k + 1]) / T: 1e-9 mm/s under the lowest such
+    # limit is refused, 1e-9 mm/s over it passes.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    arm = parse_arm(m["arm"])
+    q = np.radians(r[:, 1:3])
+    x = arm.fk(q)
+    fk = _fk_slack(arm, q)
+    pair = np.flatnonzero((r[:-1, 3] == 1) & (r[1:, 3] == 1))
+    speed = np.hypot(*(x[pair + 1] - x[pair]).T) / 0.02
+    edge = float((speed - (fk[pair] + fk[pair + 1]) / 0.02).max())
+    for by, refused in ((-1e-9, True), (1e-9, False)):
+        m["options"]["tip_speed"] = edge + by
+        _write_meta(p, m)
+        res = check_plan(p)
+        assert ("tip speed" in res.broken) == refused, (by, res.problem)
+
+
+def test_a_pen_up_move_into_the_touch_down_is_not_a_drawing_speed(saved, tmp_path):
+    # The row before the first touch-down, pen up, moved 2 mm away: the joint
+    # limits may notice, the tip speed (a promise while drawing) must not.
+    from inkreach.arms import parse_arm
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
+    arm = parse_arm(m["arm"])
+    k0 = int(np.flatnonzero(r[:, 3] == 1)[0])
+    assert k0 > 0 and r[k0 - 1, 3] == 0
+    x = arm.fk(np.radians(r[:, 1:3]))
+    speed = np.hypot(*np.diff(x, axis=0).T) / 0.02
+    m["options"]["tip_speed"] = float(speed[(r[:-1, 3] == 1) & (r[1:, 3] == 1)].max()) + 1e-3
+    _write_meta(p, m)
+    r[k0 - 1, 1:3] = np.degrees(arm.ik(x[k0:k0 + 1] + [[2.0, 0.0]]))[0]
+    r[:, 4:6] = arm.fk(np.radians(r[:, 1:3]))
+    _write_rows(p, r)
+    res = check_plan(p)
+    assert "tip speed" not in res.broken, res.problem
+
+
+def test_a_plan_without_two_pen_down_rows_in_a_row_is_checked(saved, tmp_path):
+    # One-row dots only and a recorded tip speed: no drawing pair to measure.
+    p = _copy(saved, tmp_path)
+    r = _rows(p)
+    k = int(_rest_rows(r, 2)[0])
+    _dot_plan(p, [k], [np.round(r[k, 4:6], 4).tolist()])
+    m = _meta(p)
+    m["options"]["tip_speed"] = 60.0
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert res.figures["tip speed"] == "worst 0.000 mm/s (limit 60)"
+
+
+def test_strokes_written_as_number_strings_are_read_as_numbers(saved, tmp_path):
+    # JSON numbers quoted as strings: read as the numbers they spell (Python's
+    # float() of a decimal string), the same plan, and it passes.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    m["strokes"] = [[[repr(float(a)), repr(float(b))] for a, b in s] for s in m["strokes"]]
+    _write_meta(p, m)
+    res = check_plan(p)
+    assert res.ok, res.problem
+
+
+def test_an_exponent_cell_without_a_decimal_point_has_no_rounding_slack(saved, tmp_path):
+    # Row 1's time written "2001e-5" (0.02001 s): exponent notation has no
+    # fixed last printed place, so its 1e-5 s off the 0.02 s period is not
+    # rounding (the 4-decimal rows would allow 5e-5 s) and row 1 is refused.
+    p = _copy(saved, tmp_path)
+    lines = (p / "joints.csv").read_text().splitlines()
+    cells = lines[2].split(",")
+    assert cells[0] == "0.0200"
+    cells[0] = "2001e-5"
+    lines[2] = ",".join(cells)
+    (p / "joints.csv").write_text("\n".join(lines) + "\n")
+    res = check_plan(p)
+    _only(res, "period")
+    assert res.problem.startswith("period: row 3 of joints.csv (t = 0.0200 s)")
+
+
+def test_the_conditioning_slack_is_its_gradient_times_the_angle_rounding(saved, tmp_path):
+    # The check allows c + sqrt(2) h (|dc/dtheta1| + |dc/dtheta2|) + 1e-9
+    # (first-order Taylor bound of rounding both angles by h, with the
+    # check's stated sqrt(2) margin and float term). The gradient is taken
+    # here by central differences with its own step (1e-6 rad); the floor
+    # 1e-11 over the lowest such allowance is refused, 1e-11 under passes.
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    q = np.radians(_rows(p)[:, 1:3])
+    c, _ = kin.conditioning(m["arm"], q)
+    dc = np.zeros(len(q))
+    for j in range(2):
+        e = np.zeros(2)
+        e[j] = 1e-6
+        dc += np.abs(kin.conditioning(m["arm"], q + e)[0]
+                     - kin.conditioning(m["arm"], q - e)[0]) / 2e-6
+    edge = float((c + dc * _H_Q * np.sqrt(2) + 1e-9).min())
+    for by, refused in ((1e-11, True), (-1e-11, False)):
+        m["arm"]["limits"]["min_conditioning"] = edge + by
+        _write_meta(p, m)
+        res = check_plan(p)
+        if refused:
+            _only(res, "conditioning")
+        else:
+            assert res.ok, res.problem

@@ -269,3 +269,63 @@ def test_two_strokes_and_a_dot_pass_with_exact_ends_and_a_full_report():
     k = int(np.flatnonzero(s.pen == 1)[0])
     cut = JointStream(t=s.t[:-k], q=s.q[k:], pen=s.pen[k:], xy=s.xy[k:], period=s.period)
     assert check_stream(cut, ARM, strokes=strokes).rows == len(s) - k
+
+
+# --- cases found by mutation testing after the tip-speed check and the repair
+# function were added (tests/MUTATION.md) -----------------------------------
+
+def test_the_tip_speed_rule_its_message_and_its_figure():
+    # Pen speed = |x[k+1] - x[k]| / T over pen-down pairs of one stroke (finite
+    # differences, Craig 2005, ch. 7), measured here from the stream's xy.
+    down = (GOOD.pen[1:] == 1) & (GOOD.pen[:-1] == 1) & (GOOD.stroke[1:] == GOOD.stroke[:-1])
+    sp = np.hypot(*np.diff(ARM.fk(GOOD.q), axis=0).T) / GOOD.period
+    worst = float(sp[down].max())
+    r = check_stream(GOOD, ARM, strokes=LINE, tip_speed=worst)     # exactly at the limit
+    assert r.max_tip_speed_mm_s == pytest.approx(worst, rel=1e-12)
+    limit = 0.5 * worst
+    k = int(np.flatnonzero(down & (sp > limit * (1 + 1e-9)))[0])
+    with pytest.raises(InkreachError) as err:
+        check_stream(GOOD, ARM, strokes=LINE, tip_speed=limit)
+    # pair (k, k + 1) is reported at its second row, k + 1
+    assert str(err.value) == (f"row {k + 1} (t = {(k + 1) * GOOD.period:.2f} s): pen speed "
+                              f"{sp[k]:.2f} mm/s exceeds the tip limit {limit:g} mm/s; lower "
+                              "tip_speed and plan again"), str(err.value)
+
+
+def _ramp(speed, n=6):
+    """Rows of joint 1 moving at a constant ``speed`` rad/s from 120 deg (joint 2 at 60)."""
+    q = np.tile(np.radians([120.0, 60.0]), (n, 1))
+    q[:, 0] += speed * 0.02 * np.arange(n)
+    return q
+
+
+def test_the_repair_rows_include_speeds_within_the_rounding_margin():
+    # _stream_violations tightens each limit by what rounding the angles to 1e-4 deg
+    # can add to a finite difference (r / T for a speed, 2 r / T^2 for an
+    # acceleration, r = 1e-4 deg: the bound on the sum of rounded values,
+    # common practice), so its limit-passing rows are found before writing.
+    from inkreach.motion.check import _stream_violations
+    r = np.radians(1e-4)
+    vmax, amax = ARM.limits.max_speed, ARM.limits.max_accel
+    # a constant speed half the rounding margin under the limit: every row
+    assert _stream_violations(_ramp(vmax - 0.5 * r / 0.02), 0.02, ARM).tolist() == [0, 1, 2, 3,
+                                                                                    4, 5]
+    assert _stream_violations(_ramp(vmax - 2.0 * r / 0.02), 0.02, ARM).tolist() == []
+    # two rows too far apart are both named; one row alone has no difference
+    q2 = _ramp(1.01 * vmax, n=2)
+    assert _stream_violations(q2, 0.02, ARM).tolist() == [0, 1]
+    assert _stream_violations(q2[:1], 0.02, ARM).tolist() == []
+    # one row pushed by delta at rest: second differences delta, -2 delta,
+    # delta (over T^2) at rows 2, 3, 4 centred on 1, 2, 3; only the middle one,
+    # 1.5 amax, passes amax, so rows 2 to 4 are named
+    q = np.tile(np.radians([120.0, 60.0]), (7, 1))
+    q[3, 0] += 0.75 * amax * 0.02 ** 2
+    assert _stream_violations(q, 0.02, ARM).tolist() == [2, 3, 4]
+
+
+def test_no_strokes_and_no_pen_down_rows_is_no_deviation():
+    # Nothing drawn and nothing to draw: the worst distance is 0 mm (a maximum
+    # over no rows, taken as 0 so the report stays a number).
+    r = check_stream(_rest((120.0, 60.0)), ARM, strokes=[])
+    assert r.max_deviation_mm == 0.0 and r.pen_down_rows == 0
+    assert np.isnan(r.max_tip_speed_mm_s)            # no pen-down pair to measure

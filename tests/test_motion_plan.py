@@ -258,3 +258,257 @@ def test_every_stroke_vertex_lies_near_the_drawn_path():
             path = np.repeat(x, 2, axis=0)
         worst = max(worst, _point_polyline_distance(np.asarray(stroke, float), path).max())
     assert worst <= tol
+
+
+# Cases found by mutation testing (tests/MUTATION.md): each refusal of
+# plan_motion has its own whole line (the house rule for bad input: what is
+# wrong and what to do), and the edge of each accepted range is accepted.
+
+@pytest.mark.parametrize("kw, line", [
+    ({"period": 0}, "period must be greater than zero, got 0.0"),
+    ({"chord_tol": -1}, "chord_tol must be greater than zero, got -1"),
+    ({"margin": 1.5}, "margin must be in (0, 1], got 1.5; 1 (the default) uses the arm's "
+                      "limits as they are"),
+    ({"tip_speed": 0}, "tip_speed must be greater than zero, got 0.0"),
+    ({"region": [[0.0, 100.0], [10.0, 100.0]]},
+     "region must be an (M, 2) convex polygon with M >= 3"),
+    ({"period": 0.015}, "period 0.015 s is not a whole number of servo frames (20 ms at "
+                        "50 Hz); use 0.02, 0.04 or 0.06 s"),
+])
+def test_each_bad_option_is_refused_with_its_own_line(kw, line):
+    arm = load_arm("default")          # its [servo] table: frame_hz = 50
+    with pytest.raises(InkreachError) as err:
+        plan_motion([np.array([[0.0, 150.0], [10.0, 150.0]])], arm, **kw)
+    assert str(err.value) == line
+
+
+def test_a_servo_table_without_frame_hz_means_50_hz_frames():
+    # 50 Hz is the hobby-servo frame rate (common practice), the documented
+    # default of [servo] frame_hz.
+    from dataclasses import replace
+    arm = replace(load_arm("default"), hardware={"servo": {"pen_up_us": 1200.0}})
+    line = [np.array([[0.0, 150.0], [10.0, 150.0]])]
+    with pytest.raises(InkreachError, match=r"\(20 ms at 50 Hz\); use 0\.02, 0\.04"):
+        plan_motion(line, arm, period=0.015)
+    assert plan_motion(line, arm, period=0.04).period == 0.04
+
+
+def test_a_triangle_is_a_region():
+    # The smallest convex polygon has three corners.
+    arm, box = _arm_and_box("default")
+    tri = box[:3]
+    c = tri.mean(axis=0)
+    line = [np.stack([c, c + 0.2 * (tri[1] - c)])]
+    s = plan_motion(line, arm, region=tri)
+    check_stream(s, arm, strokes=line)
+
+
+def test_an_unreachable_point_is_named_by_its_own_stroke_and_index():
+    arm = load_arm("default")
+    ok = np.array([[0.0, 150.0], [10.0, 150.0]])
+    with pytest.raises(InkreachError) as err:
+        plan_motion([ok, np.array([[0.0, 150.0], [5.0, 150.0], [0.0, 5.0]])], arm)
+    assert str(err.value).startswith("stroke 1, point 2 at (0.00, 5.00) mm cannot be reached "
+                                     "safely")
+
+
+def test_rest_postures_outside_or_badly_conditioned_are_refused_with_their_lines():
+    arm = load_arm("default")
+    line = [np.array([[0.0, 150.0], [10.0, 150.0]])]
+    with pytest.raises(InkreachError) as err:
+        plan_motion(line, arm, start=np.radians([0.0, 60.0]))
+    assert str(err.value) == ("the start posture (0.00, 60.00) deg is outside the joint limits "
+                              "or does not assemble; give angles inside the limits")
+    # a posture inside the limits below the conditioning floor, found on a 1 deg grid
+    g = np.radians(np.stack(np.meshgrid(np.arange(30.0, 211.0), np.arange(-30.0, 151.0)),
+                            -1).reshape(-1, 2))
+    ok = arm.within_limits(g) & np.isfinite(arm.fk(g)).all(axis=1)
+    c = np.where(ok, arm.conditioning(g), np.inf)
+    low = g[np.flatnonzero(c < arm.limits.min_conditioning)[0]]
+    with pytest.raises(InkreachError) as err:
+        plan_motion(line, arm, end=low)
+    c0 = float(arm.conditioning(low))
+    assert str(err.value) == (f"the end posture ({np.degrees(low[0]):.2f}, "
+                              f"{np.degrees(low[1]):.2f}) deg has conditioning {c0:.3f}, below "
+                              f"the floor {arm.limits.min_conditioning:g}; pick a rest posture "
+                              "in the well-conditioned region")
+
+
+def test_nothing_to_draw_without_a_rest_posture_says_what_to_set():
+    with pytest.raises(InkreachError) as err:
+        plan_motion([], load_arm("serial"))
+    assert str(err.value) == ("nothing to draw and no rest posture; give start or set [home] "
+                              "in the arm file")
+
+
+def test_without_a_region_the_straight_fallback_is_probed_along_the_line():
+    # As in the fallback test above but with no region given: the straight
+    # line between the corners is probed point by point and taken.
+    arm = load_arm("wide")
+    r = largest_rectangle(workspace_map(arm, cells=150))
+    box = r.center + 0.95 * (r.corners() - r.center)
+    a, b = box[0], box[1]
+    strokes = [a[None], b[None]]
+    s = plan_motion(strokes, arm)
+    i0 = np.flatnonzero(s.stroke == 0)[-1]
+    i1 = np.flatnonzero(s.stroke == 1)[0]
+    assert _polyline_distance(s.xy[i0:i1 + 1], np.array([a, b])).max() <= 0.05
+    assert np.all(s.stroke[s.pen == 0] == -1)    # JointStream: -1 for pen-up rows
+    check_stream(s, arm, strokes=strokes)
+
+
+def test_a_pen_up_move_with_no_usable_path_is_refused_with_its_line():
+    # Two reachable points on the wide arm whose straight line crosses the
+    # unreachable middle and whose joint-space line leaves the limits or the
+    # conditioning floor (both checked here on the arm itself).
+    arm = load_arm("wide")
+    a, b = np.array([85.0, 105.0]), np.array([-90.0, 100.0])
+    assert arm.reachable(np.stack([a, b])).all()
+    u = np.linspace(0.0, 1.0, 401)[:, None]
+    assert not arm.reachable(a + u * (b - a)).all()
+    q = arm.ik(np.stack([a, b]))
+    qq = q[0] + u * (q[1] - q[0])
+    assert not (arm.within_limits(qq).all()
+                and (arm.conditioning(qq) >= arm.limits.min_conditioning).all())
+    with pytest.raises(InkreachError) as err:
+        plan_motion([a[None], b[None]], arm)
+    assert str(err.value) == (
+        "the pen-up move from (85.0, 105.0) to (-90.0, 100.0) mm leaves the usable region both "
+        "as a joint-space and as a straight move; place the drawing in the well-conditioned "
+        "region or change the rest posture")
+
+
+def test_a_pen_quicker_than_one_period_still_dwells_one_row():
+    # Zero-order hold: a pen that lowers in 10 ms is commanded down for one
+    # whole 20 ms row, ceil(lift_s / T) = 1, not two.
+    from dataclasses import replace
+    arm, box = _arm_and_box("default")
+    arm = replace(arm, pen=replace(arm.pen, lift_s=0.01))
+    dot = [box.mean(axis=0)[None]]
+    s = plan_motion(dot, arm)
+    assert int((s.pen == 1).sum()) == 1
+    check_stream(s, arm, strokes=dot)
+
+
+def test_the_plan_is_held_to_its_own_chord_tolerance():
+    # A looser chord_tol lets the joint-space chords stray further (their
+    # sagitta grows with the row spacing), and plan_motion's own final check
+    # uses that tolerance, not the default 0.05 mm.
+    arm = load_arm("default")
+    line = [np.array([[-60.0, 120.0], [60.0, 120.0]])]
+    s = plan_motion(line, arm, chord_tol=0.3)
+    r = check_stream(s, arm, strokes=line, chord_tol=0.3)
+    assert 0.05 < r.max_deviation_mm <= 0.3
+
+
+def test_the_tip_speed_repair_names_fast_pen_down_pairs_of_one_stroke():
+    # Pen speed of a row pair = |fk(q[k+1]) - fk(q[k])| / T (finite
+    # differences, Craig 2005, ch. 7), counted only while the pen is down on
+    # one stroke. Pairs within 1e-9 relative under the limit are named too (a
+    # margin chosen so a repaired stream passes the final check, which allows
+    # 1e-9 over).
+    from inkreach.motion.plan import _tip_violations
+    arm = load_arm("default")
+    q = np.tile(np.radians([120.0, 60.0]), (6, 1))
+    q[:, 0] += np.radians(0.5) * np.arange(6)
+    pen = np.array([0, 1, 1, 1, 1, 0], np.int8)
+    stroke = np.array([-1, 0, 0, 1, 1, -1])
+    sp = np.hypot(*np.diff(arm.fk(q), axis=0).T) / 0.02
+    # pairs (1, 2) and (3, 4) are drawing pairs; (2, 3) joins two strokes
+    assert _tip_violations(q, pen, stroke, 0.02, arm, 0.5 * sp.min()).tolist() == [1, 2, 3, 4]
+    assert _tip_violations(q, pen, stroke, 0.02, arm, 2.0 * sp.max()).tolist() == []
+    at = float(sp[1]) * (1 + 0.5e-9)           # just over pair (1, 2)'s speed
+    assert _tip_violations(q, pen, stroke, 0.02, arm, at).tolist()[:2] == [1, 2]
+    assert _tip_violations(q[:1], pen[:1], stroke[:1], 0.02, arm, 1.0).tolist() == []
+
+
+def test_the_chord_repair_names_rows_and_midpoints_off_their_stroke():
+    # The same rule as the final check: a pen-down row, or the joint-space
+    # midpoint of two consecutive rows of one stroke, farther than chord_tol
+    # (less 1 % headroom) from its stroke names both rows of its pair.
+    from inkreach.motion.plan import _StrokeIndex, _chord_violations
+    arm = load_arm("default")
+    line = np.array([[-20.0, 150.0], [20.0, 150.0]])
+    idx = _StrokeIndex([line], 0.05)
+    x = np.column_stack([np.linspace(-20.0, 20.0, 41), np.full(41, 150.0)])
+    q = arm.ik(x)
+    pen, lab = np.ones(41, np.int8), np.zeros(41, int)
+    assert _chord_violations(q, pen, lab, arm, idx, 0.05).tolist() == []
+    x[20, 1] += 0.06                        # one row 0.06 mm off; its midpoints ~0.03 mm
+    assert _chord_violations(arm.ik(x), pen, lab, arm, idx, 0.05).tolist() == [20, 21]
+    # two rows at the ends: on the line, but the joint-space midpoint sags off it
+    q2 = arm.ik(line)
+    sag = _polyline_distance(arm.fk(0.5 * (q2[:1] + q2[1:])), line).max()
+    assert sag > 0.05
+    assert _chord_violations(q2, pen[:2], lab[:2], arm, idx, 0.05).tolist() == [0, 1]
+    # two strokes drawn back to back: no midpoint between rows of different strokes
+    s0, s1 = np.array([[-20.0, 150.0], [0.0, 150.0]]), np.array([[0.0, 160.0], [20.0, 160.0]])
+    pts = np.concatenate([np.column_stack([np.linspace(-20.0, 0.0, 21), np.full(21, 150.0)]),
+                          np.column_stack([np.linspace(0.0, 20.0, 21), np.full(21, 160.0)])])
+    two = _StrokeIndex([s0, s1], 0.05)
+    assert _chord_violations(arm.ik(pts), np.ones(42, np.int8), np.repeat([0, 1], 21), arm,
+                             two, 0.05).tolist() == []
+
+
+def test_the_vertex_repair_names_the_rows_around_a_cut_corner():
+    # The rule of the saved-plan check: every stroke vertex lies within
+    # chord_tol of the drawn path (rows and joint-space midpoints, in order).
+    # Rows that jump over the apex of a corner leave it 1 mm away; the rows
+    # around the jump (one before to two after its first row) are named.
+    from inkreach.motion.plan import _vertex_misses
+    arm = load_arm("default")
+    corner = np.array([[-10.0, 150.0], [0.0, 160.0], [10.0, 150.0]])
+    xs = np.r_[np.arange(-10.0, 0.0), np.arange(1.0, 11.0)]        # no row at x = 0
+    x = np.column_stack([xs, 160.0 - np.abs(xs)])
+    n = len(x)
+    pen, lab = np.ones(n, np.int8), np.zeros(n, int)
+    assert _vertex_misses(arm.ik(x), pen, lab, arm, [corner], 0.05).tolist() == [8, 9, 10, 11]
+    full = np.column_stack([np.arange(-10.0, 11.0), 160.0 - np.abs(np.arange(-10.0, 11.0))])
+    assert _vertex_misses(arm.ik(full), np.ones(21, np.int8), np.zeros(21, int), arm, [corner],
+                          0.05).tolist() == []
+    # two rows at the ends only: both named, and no row before the first
+    two = arm.ik(corner[[0, 2]])
+    assert _vertex_misses(two, pen[:2], lab[:2], arm, [corner], 0.05).tolist() == [0, 1]
+    # rows that never move draw no path: nothing to slow down
+    still = np.repeat(arm.ik(corner[:1]), 3, axis=0)
+    assert _vertex_misses(still, pen[:3], lab[:3], arm, [corner], 0.05).tolist() == []
+    # a stroke through the joint-space midpoint of its two rows is drawn whole:
+    # the midpoint is part of the drawn path (the check's rule), the chord is not
+    ends = np.array([[-20.0, 150.0], [20.0, 150.0]])
+    qe = arm.ik(ends)
+    mid = arm.fk(0.5 * (qe[:1] + qe[1:]))[0]
+    assert _polyline_distance(mid[None], ends).max() > 0.05
+    bent = np.array([ends[0], mid, ends[1]])
+    assert _vertex_misses(qe, pen[:2], lab[:2], arm, [bent], 0.05).tolist() == []
+    # two strokes drawn back to back: the midpoint between them belongs to neither,
+    # so stroke 0's last vertex, never reached, is still named
+    s0 = np.array([[-20.0, 150.0], [0.0, 150.0], [0.0, 155.0]])
+    s1 = np.array([[0.0, 160.0], [20.0, 160.0]])
+    pts = np.concatenate([np.column_stack([np.linspace(-20.0, 0.0, 21), np.full(21, 150.0)]),
+                          np.column_stack([np.linspace(0.0, 20.0, 21), np.full(21, 160.0)])])
+    got = _vertex_misses(arm.ik(pts), np.ones(42, np.int8), np.repeat([0, 1], 21), arm,
+                         [s0, s1], 0.05).tolist()
+    assert got and max(got) <= 22, got
+
+
+def test_joint_space_pen_up_moves_are_probed_for_limits_and_conditioning():
+    # A pen-up move along the joint-space line is usable when every probed
+    # posture is inside the joint limits, assembles, and meets the
+    # conditioning floor; several moves are probed at once, each on its own.
+    from inkreach.motion.plan import _joint_moves_ok
+    arm = load_arm("default")
+    deg = np.array([[[120.0, 60.0], [110.0, 50.0]],      # inside, well conditioned
+                    [[200.0, -20.0], [212.0, -30.0]],    # ends past theta1's 210 deg
+                    [[40.0, -20.0], [30.0, -30.0]],      # ends below the floor
+                    [[180.0, 100.0], [200.0, 100.0]]])   # inside, up to 10 deg from a limit
+    qa, qb = np.radians(deg[:, 0]), np.radians(deg[:, 1])
+    u = np.linspace(0.0, 1.0, 101)[:, None]
+    line = qa[1] + u * (qb[1] - qa[1])
+    # the second move fails on the limits alone: it assembles and is well conditioned
+    assert not arm.within_limits(qb[1:2]).all()
+    assert (arm.conditioning(line) >= arm.limits.min_conditioning).all()
+    assert np.isfinite(arm.fk(line)).all()
+    assert arm.conditioning(qb[2:3])[0] < arm.limits.min_conditioning
+    last = qa[3] + u * (qb[3] - qa[3])
+    assert (arm.conditioning(last) >= arm.limits.min_conditioning).all()
+    assert _joint_moves_ok(arm, qa, qb).tolist() == [True, False, False, True]

@@ -67,3 +67,17 @@ def test_single_joint_stream_starts_and_ends_exactly_at_rest():
     np.testing.assert_allclose(s.q[0], start, atol=1e-12)
     np.testing.assert_allclose(s.q[-1], end, atol=1e-12)
     np.testing.assert_allclose(s.t, np.arange(len(s)) * s.period)
+
+
+# Case found by mutation testing: a move shorter than vmax^2/amax but longer
+# than 1/amax (and than vmax/amax) is still a triangle (Biagiotti &
+# Melchiorri 2008, sec. 3.2.2: the cruise speed is reached only when
+# h >= vmax^2/amax); its peak speed is sqrt(h amax), below vmax.
+def test_trapezoid_time_short_of_the_cruise_is_a_triangle_at_any_speed_scale():
+    h, v, a = 3.0, 2.0, 1.0                   # vmax^2/amax = 4 > h > vmax/amax = 2
+    assert np.sqrt(h * a) < v
+    assert trapezoid_time(h, v, a) == pytest.approx(2.0 * np.sqrt(h / a))   # 2 sqrt(3)
+    assert trapezoid_time(h, v, a) != pytest.approx(h / v + v / a)          # not 3.5
+    # and in joint units: 20 deg at 180 deg/s, 1500 deg/s^2 (21.6 deg to cruise)
+    h, v, a = np.deg2rad(20.0), np.deg2rad(180.0), np.deg2rad(1500.0)
+    assert trapezoid_time(h, v, a) == pytest.approx(2.0 * np.sqrt(h / a))

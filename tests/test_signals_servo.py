@@ -223,3 +223,41 @@ def test_servo_pulses_give_the_whole_not_finite_message():
     three = SimpleNamespace(q=np.zeros((2, 3)), pen=np.zeros(2, np.int8))
     with pytest.raises(InkreachError, match="^the joint stream must hold two angles per row$"):
         servo_pulses(three)
+
+
+# --- second round of cases found by mutation testing (after 1/16 us ticks) ---
+
+def test_a_table_of_whole_numbers_is_stored_as_floats():
+    # The arm file may write [0, 500]; the calibration keeps floats, as the
+    # arm file writer and the pulse arithmetic expect.
+    cal = ServoCalibration(motor1=((0, 500), (180, 2500)))
+    assert cal.motor1 == ((0.0, 500.0), (180.0, 2500.0))
+    assert all(type(v) is float for pair in cal.motor1 for v in pair)
+
+
+@pytest.mark.parametrize("pulse, refused", [(0.0, True), (-1.0, True), (0.5, False)])
+def test_the_pulse_rule_is_greater_than_zero_exactly(pulse, refused):
+    # The rule as its message states it: any pulse above 0 us is a pulse.
+    table = ((0.0, pulse), (180.0, 2500.0))
+    if refused:
+        with pytest.raises(InkreachError, match="pulses must be greater than zero"):
+            ServoCalibration(motor1=table)
+    else:
+        assert ServoCalibration(motor1=table).pulse(0, [0.0]).tolist() == [pulse]
+
+
+@pytest.mark.parametrize("table", [((30.0, 500.0), (210.0, 2500.0)),
+                                   ((-0.5, 1400.0), (0.5, 1600.0))])
+def test_angles_within_float_noise_of_a_table_edge_take_the_edge_pulse(table):
+    # Degrees from radians carry a few ulps of noise (np.rad2deg(np.deg2rad(210))
+    # is 210.00000000000003), so the table edges allow 1e-9 of the larger of
+    # 1 deg and the edge angles (a tolerance chosen far below any servo's
+    # resolution, far above float noise); the pulse there is the edge pulse
+    # exactly, never extrapolated (Press et al., Numerical Recipes, sec. 3.1).
+    cal = ServoCalibration(motor1=table)
+    (lo, p_lo), (hi, p_hi) = table
+    tol = 1e-9 * max(1.0, abs(lo), abs(hi))
+    assert cal.pulse(0, [lo - 0.8 * tol, hi + 0.8 * tol]).tolist() == [p_lo, p_hi]
+    for x in (lo - 2.0 * tol, hi + 2.0 * tol):
+        with pytest.raises(InkreachError, match="outside its servo table"):
+            cal.pulse(0, [x])
