@@ -610,15 +610,16 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
     inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
     stretched only as far as that needs, and only vertices whose slow-down
-    would cost more than about half a period are treated so; every stroke
-    vertex is then re-checked to lie within ``chord_tol`` of the drawn path
-    (rows and joint-space midpoints), and where the rows cannot be repaired
-    within a few rounds the whole drawing is timed without the blend.
-    Without it
-    the row lands exactly on the vertex and the stroke's time between such
-    vertices is stretched to a whole number of periods. Rows whose finite
-    differences still break a limit (joint speed, acceleration, or the tip
-    speed from forward kinematics) are slowed down locally and re-timed.
+    would cost more than about half a period are treated so; where the
+    rows of a stroke cannot be repaired within a few rounds the whole
+    drawing is timed without the blend. Without it the row lands exactly
+    on the vertex and the stroke's time between such vertices is stretched
+    to a whole number of periods. Rows whose finite differences still break
+    a limit (joint speed, acceleration, or the tip speed from forward
+    kinematics), or next to which a stroke vertex lies further than
+    ``chord_tol`` from the drawn path (rows and joint-space midpoints: two
+    close sharp corners cut at once), are slowed down locally and
+    re-timed, with the blend or without.
     The stream is executed by holding each row for one period (zero-order
     hold): the pen is commanded down on the row where a pen-up move arrives
     at rest, and up on the row after a stroke's last row, and in both cases
@@ -786,8 +787,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             if index is not None:
                 rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index,
                                                           chord_tol))
-                if blend:
-                    rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
+                rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
             if rows.size == 0:
                 break
             if not _slow_down(f, tv, tau, rows, period):
