@@ -142,3 +142,36 @@ def test_blend_off_puts_a_row_exactly_on_every_square_corner():
     x = s.xy[s.pen == 1]
     for v in sq[1:-1]:
         assert np.hypot(*(x - v).T).min() < 1e-9
+
+
+@pytest.mark.parametrize("arm_name", ["default", "serial"])
+def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
+    import inkreach.motion.plan as plan_module
+
+    arm = load_arm(arm_name)
+    c = arm.fk(arm.home()) if arm.home() is not None else np.array([-60.0, 180.0])
+    close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
+                          [-1.6, 6.5], [3.4, 10.6]])
+    strokes = [_square(c, 15.0), close]
+    q0 = arm.ik(c)
+    on = plan_motion(strokes, arm, start=q0, end=q0)
+    off = plan_motion(strokes, arm, start=q0, end=q0, corner_blend=False)
+    # The two close corners need more than one round of blend repairs; with
+    # one round allowed that stroke alone is timed without the blend.
+    monkeypatch.setattr(plan_module, "_BLEND_REPAIRS", 1)
+    mixed = plan_motion(strokes, arm, start=q0, end=q0)
+    check_stream(mixed, arm, strokes=strokes, chord_tol=0.05, tip_speed=80.0)
+    assert _vertex_miss(mixed, strokes, arm) <= 0.05
+
+    def rows(s, i):
+        return s.q[(s.pen == 1) & (s.stroke == i)]
+
+    # the square keeps the blend (its rows as in the all-blend plan) ...
+    assert len(rows(on, 0)) < len(rows(off, 0))
+    # (to rounding: the backward pass sums from the drawing's end)
+    assert rows(mixed, 0).shape == rows(on, 0).shape
+    assert np.allclose(rows(mixed, 0), rows(on, 0), rtol=0, atol=1e-9)
+    # ... and the close corners are drawn as without it
+    assert rows(mixed, 1).shape == rows(off, 1).shape
+    assert np.allclose(rows(mixed, 1), rows(off, 1), rtol=0, atol=1e-9)
+    assert mixed.duration < off.duration

@@ -29,7 +29,7 @@ _CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_sto
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
-_BLEND_REPAIRS = 12              # repair rounds the corner blend gets before falling back
+_BLEND_REPAIRS = 12              # repair rounds a blended stroke gets before falling back
 
 
 def _as_strokes(strokes):
@@ -123,8 +123,12 @@ class _Path:
     """All pieces (pen-up moves, dwells, strokes) of a drawing as one vertex list."""
 
     def __init__(self, pieces):
-        # pieces: list of (kind, P or None, Q, pen, stroke)
+        # pieces: list of (kind, P or None, Q, pen, stroke[, key])
         sizes = np.array([len(p[2]) for p in pieces])
+        # key: a name for each vertex that stays the same when the pieces
+        # of a stroke are cut differently (see plan_motion's repairs)
+        self.key = np.concatenate([p[5] if len(p) > 5 else np.full(len(p[2]), -1)
+                                   for p in pieces])
         self.kind = np.array([p[0] for p in pieces])
         self.pen = np.array([p[3] for p in pieces], dtype=np.int8)
         self.stroke = np.array([p[4] for p in pieces])
@@ -384,7 +388,11 @@ def _row_times(path, dur, period, win):
 
 
 def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
-    """Time every piece, put it on the row clock, sample the rows."""
+    """Time every piece, put it on the row clock, sample the rows.
+
+    ``blend`` (a bool, or one per piece) says where a row need only land
+    near the vertex a piece ends at, rather than exactly on it.
+    """
     cap2 = _vertex_caps(path, g, arm, margin, period, chord_tol, f)
     vseg = g["vseg"] * f
     acc = g["acc"] * f * f
@@ -395,8 +403,7 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
     tv = np.concatenate([[0.0], np.cumsum(prof["dt"])])
     t0 = tv[path.first]
     dur = tv[path.last] - t0
-    win = _join_windows(path, g, w, f, period, chord_tol) if blend else \
-        np.full(len(dur), 1e-9 * period)
+    win = np.where(blend, _join_windows(path, g, w, f, period, chord_tol), 1e-9 * period)
     S, E = _row_times(path, dur, period, win)
     lo = np.floor(S / period + 1e-9).astype(int)
     hi = np.floor(E / period + 1e-9).astype(int)
@@ -610,9 +617,9 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
     inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
     stretched only as far as that needs, and only vertices whose slow-down
-    would cost more than about half a period are treated so; where the
-    rows of a stroke cannot be repaired within a few rounds the whole
-    drawing is timed without the blend. Without it the row lands exactly
+    would cost more than about half a period are treated so; a stroke
+    whose rows cannot be repaired within a few rounds is timed again
+    without the blend, the other strokes keep it. Without it the row lands exactly
     on the vertex and the stroke's time between such vertices is stretched
     to a whole number of periods. Rows whose finite differences still break
     a limit (joint speed, acceleration, or the tip speed from forward
@@ -755,50 +762,80 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                                              _PATH_SHARE * chord_tol))) \
         if bad.size else {}
 
+    n_travel = [len(cart[i][1]) if i in cart else 2 for i in range(n + 1)]
+    base_travel = np.concatenate([[0], np.cumsum(n_travel)])
+    base_dwell = base_travel[-1] + 2 * np.arange(n)
+    sizes = np.array([len(drawn[i][0]) if i in drawn else 0 for i in range(n)], int)
+    base_stroke = base_dwell[-1] + 2 + np.concatenate([[0], np.cumsum(sizes)[:-1]]) if n \
+        else np.zeros(0, int)
+    n_keys = int(base_travel[-1] + 2 * n + sizes.sum())
+
     def travel(i):
+        key = base_travel[i] + np.arange(n_travel[i])
         if i in cart:
             P, Q = cart[i]
-            return (_TRAVEL_CART, P, Q, 0, -1)
-        return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1)
+            return (_TRAVEL_CART, P, Q, 0, -1, key)
+        return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1, key)
 
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
     index = _StrokeIndex(S, chord_tol) if n else None
+    cut_memo = {}
 
-    def timed(blend, repairs):
+    def build(blend):
         pieces = []
         for i in range(n):
             pieces.append(travel(i))
-            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
+            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i,
+                           base_dwell[i:i + 1]))
             if i in drawn:
                 P, Q = drawn[i]
-                cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend)
+                if (i, blend[i]) not in cut_memo:
+                    cut_memo[i, blend[i]] = _corner_stops(P, Q, arm, margin, period, chord_tol,
+                                                          tip_speed, blend[i])
+                cuts = cut_memo[i, blend[i]]
                 for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
-                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
-            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
+                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i,
+                                   base_stroke[i] + np.arange(a, b + 1)))
+            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1,
+                           base_dwell[i:i + 1] + 1))
         pieces.append(travel(n))
         path = _Path(pieces)
-        g = _geometry(path, arm, margin, tip_speed)
-        f = np.ones(len(g["length"]))
-        for _ in range(repairs):
-            q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
-                                                 n_dwell, blend)
-            rows = _stream_violations(q, period, arm)
-            rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
-            if index is not None:
-                rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index,
-                                                          chord_tol))
-                rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
-            if rows.size == 0:
-                break
-            if not _slow_down(f, tv, tau, rows, period):
-                break
-        return q, pen, stroke, rows
+        return path, _geometry(path, arm, margin, tip_speed)
 
-    # The blend first; where its rows cannot be repaired in a few rounds (tiny
-    # closed marks, e.g. stipple dots), the plain rows on every sharp vertex.
-    q, pen, stroke, rows = timed(True, _BLEND_REPAIRS) if corner_blend else (None,) * 4
-    if rows is None or rows.size:
-        q, pen, stroke, rows = timed(False, _MAX_REPAIRS)
+    # The blend first, on every stroke; a stroke whose rows still break a
+    # rule after a few rounds of repairs (tiny closed marks, e.g. stipple
+    # dots) is timed again with plain rows on every sharp vertex, its own
+    # slow-downs forgotten, while the others keep theirs and the blend.
+    blend = np.full(n, bool(corner_blend))
+    tries = np.zeros(n, int)
+    fkey = np.ones(n_keys)
+    path, g = build(blend)
+    f = fkey[path.key[:-1]]
+    for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
+        q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
+                                             n_dwell, np.r_[blend, False][path.stroke])
+        rows = _stream_violations(q, period, arm)
+        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+        if index is not None:
+            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
+            rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
+        if rows.size == 0:
+            break
+        slowed = _slow_down(f, tv, tau, rows, period)
+        hit = np.unique(stroke[rows])
+        hit = hit[hit >= 0]
+        tries[hit] += 1
+        drop = hit[blend[hit] & (tries[hit] >= _BLEND_REPAIRS)]
+        if drop.size:
+            inside = g["same"]
+            fkey[path.key[:-1][inside]] = f[inside]
+            for i in drop:
+                fkey[base_stroke[i]:base_stroke[i] + sizes[i]] = 1.0
+            blend[drop] = False
+            path, g = build(blend)
+            f = fkey[path.key[:-1]]
+        elif not slowed:
+            break
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
