@@ -248,7 +248,8 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         kinematics, stroke ends), mm.
     tip_speed : float, optional
         Pen-tip speed limit, mm/s: the finite-difference speed of the forward
-        kinematics of every two consecutive pen-down rows of one stroke must
+        kinematics of every two consecutive pen-down rows of one stroke, and
+        of every step of a straight pen-up move (``stream.straight``), must
         not exceed it. Not checked when None.
 
     Returns
@@ -352,6 +353,19 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         if (k := _first(tip > vt)) is not None:
             _fail(f"{_where(int(both[k]) + 1, T)}: pen speed {tip[k]:.2f} mm/s exceeds the tip "
                   f"limit {float(tip_speed):g} mm/s; lower tip_speed and plan again")
+    straight = getattr(stream, "straight", None)
+    if straight is not None:
+        straight = np.asarray(straight, dtype=bool)
+        if straight.shape != (N,):
+            _fail(f"the stream's straight-move column has shape {straight.shape}, not ({N},); "
+                  "rebuild it with plan_motion")
+        ks = np.flatnonzero(straight[1:]) + 1
+        up = np.hypot(*(x[ks] - x[ks - 1]).T) / T
+        if tip_speed is not None and up.size:
+            if (k := _first(up > float(tip_speed) * (1 + _REL_TOL))) is not None:
+                _fail(f"{_where(int(ks[k]), T)}: pen speed {up[k]:.2f} mm/s on a straight "
+                      f"pen-up move exceeds the tip limit {float(tip_speed):g} mm/s; lower "
+                      "tip_speed and plan again")
 
     deviation = vertex_miss = float("nan")
     if strokes is not None:

@@ -165,10 +165,12 @@ def _geometry(path, arm, margin, tip_speed):
         vseg = np.where(qpm > 0, margin * lim.max_speed / qpm, np.inf)
         acc = np.where(qpm > 0, margin * lim.max_accel / qpm, np.inf)
     drawing = same & (vk[:-1] == _STROKE)
-    if np.any(drawing):
+    tipped = drawing | (same & (vk[:-1] == _TRAVEL_CART))
+    if np.any(tipped):
         # Joint-linear motion does not move the pen at a constant speed: bound
         # the pen speed per unit path speed by |J dq/ds| at both segment ends.
-        k = np.flatnonzero(drawing)
+        # The limit binds straight pen-up moves too.
+        k = np.flatnonzero(tipped)
         J0 = arm.jacobian(Q[k])
         J1 = arm.jacobian(Q[k + 1])
         g0 = np.hypot(*np.einsum("nij,nj->ni", J0, qp[k]).T)
@@ -441,7 +443,8 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
     pen[arrive] = 1
     stroke[arrive] = path.stroke[early]
     tau = np.concatenate([[np.nan], tau])
-    return q, pen, stroke, tau, tv
+    straight = np.concatenate([[False], path.kind[rp] == _TRAVEL_CART])
+    return q, pen, stroke, tau, tv, straight
 
 
 def _slow_down(f, tv, tau, rows, period):
@@ -476,12 +479,14 @@ def _servo_frame_check(arm, period):
             f"{hz:g} Hz); use {f:g}, {2 * f:g} or {3 * f:g} s")
 
 
-def _tip_violations(q, pen, stroke, period, arm, tip_speed):
-    """First rows of pen-down row pairs whose finite-difference tip speed is too high."""
+def _tip_violations(q, pen, stroke, period, arm, tip_speed, straight=None):
+    """Rows of pen-down row pairs, or of steps of straight pen-up moves, too fast at the tip."""
     if len(q) < 2:
         return np.zeros(0, int)
     x = arm.fk(q)
     both = (pen[1:] == 1) & (pen[:-1] == 1) & (stroke[1:] == stroke[:-1])
+    if straight is not None:
+        both |= straight[1:]
     sp = np.hypot(*np.diff(x, axis=0).T) / period
     k = np.flatnonzero(both & (sp > tip_speed * (1 - 1e-9)))
     return np.unique(np.concatenate([k, k + 1]))
@@ -648,7 +653,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         Sample period, seconds.
     tip_speed : float, optional
         Largest pen speed while drawing, mm/s (default :data:`TIP_SPEED`,
-        80), applied to every pen-down row pair.
+        80), applied to every pen-down row pair and to every step of a
+        straight pen-up move.
     region : array_like, shape (M, 2), optional
         A convex polygon (mm) where straight pen-up moves are known to be
         safe, e.g. the hull of the placed drawing.
@@ -812,10 +818,12 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     path, g = build(blend)
     f = fkey[path.key[:-1]]
     for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
-        q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
-                                             n_dwell, np.r_[blend, False][path.stroke])
+        q, pen, stroke, tau, tv, straight = _time_path(
+            path, g, arm, margin, period, chord_tol, f, n_dwell,
+            np.r_[blend, False][path.stroke])
         rows = _stream_violations(q, period, arm)
-        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
+        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
+                                                straight))
         if index is not None:
             rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
             rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
@@ -841,6 +849,6 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
                          period=period, stroke=stroke, execution="hold",
-                         tip_speed=tip_speed)
+                         tip_speed=tip_speed, straight=straight if straight.any() else None)
     check_stream(stream, arm, strokes=S, chord_tol=chord_tol, tip_speed=tip_speed)
     return stream
