@@ -175,3 +175,20 @@ def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
     assert rows(mixed, 1).shape == rows(off, 1).shape
     assert np.allclose(rows(mixed, 1), rows(off, 1), rtol=0, atol=1e-9)
     assert mixed.duration < off.duration
+
+
+@pytest.mark.parametrize("blend", [True, False])
+def test_hatch_passing_its_own_sharp_corner_again_is_planned_whole(blend):
+    # Cut down from a hatch stroke of the still life: the pen stops at the
+    # sharp corner (8.58, 131.09) after another one 0.79 mm before it, and
+    # the stroke's second-last leg passes 0.053 mm from that corner later,
+    # just outside the tolerance. The rows nearest the corner are then on
+    # the later leg; slowing those down never repaired the corner (the plan
+    # failed in both modes). The check must pass and the corner be drawn.
+    arm = default_arm()
+    hatch = np.array([[-3.2018, 130.3755], [8.2452, 130.3755], [8.5821, 131.0854],
+                      [-12.9708, 131.0854], [-13.4761, 131.7953], [8.7505, 131.7953],
+                      [8.0768, 129.6656], [-10.0, 129.6656]])
+    s = plan_motion([hatch], arm, corner_blend=blend)
+    check_stream(s, arm, strokes=[hatch], chord_tol=0.05, tip_speed=80.0)
+    assert _vertex_miss(s, [hatch], arm) <= 0.05

@@ -447,9 +447,11 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
     return q, pen, stroke, tau, tv, straight
 
 
-def _slow_down(f, tv, tau, rows, period):
-    """Scale down the limits of every segment near the offending rows."""
+def _slow_down(f, tv, tau, rows, period, times=None):
+    """Scale down the limits of every segment near the offending rows (and times)."""
     t = tau[rows]
+    if times is not None:
+        t = np.concatenate([t, times])
     t = t[np.isfinite(t)]
     if t.size == 0:
         return False
@@ -556,7 +558,11 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     joint-space midpoints between them, in order; every vertex of the
     stroke must lie within ``chord_tol`` of it (the stroke is drawn whole,
     the rule of ``inkreach check``). Rows that cut a corner, or two close
-    corners at once, too deeply are returned to be slowed down.
+    corners at once, too deeply are returned, and the missed vertices (as
+    indices into the concatenated strokes of two or more points): a stroke
+    that passes near its own vertex again later (hatching) may have its
+    nearest rows elsewhere in time, so the time around the vertex itself is
+    slowed down too.
     """
     from scipy.spatial import cKDTree
 
@@ -565,7 +571,7 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     kd = np.flatnonzero(pen == 1)
     lines = [i for i, x in enumerate(strokes) if len(x) > 1]
     if kd.size < 2 or not lines:
-        return np.zeros(0, int)
+        return np.zeros(0, int), np.zeros(0, int)
     lab = stroke[kd]
     pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
     xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
@@ -578,7 +584,7 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     # pieces of the drawn path, without the zero-length ones of the dwells
     same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
     if not np.any(same):
-        return np.zeros(0, int)
+        return np.zeros(0, int), np.zeros(0, int)
     A, B = pts[:-1][same], pts[1:][same]
     slab, srow = plab[:-1][same], prow[:-1][same]
     big = 1e7
@@ -593,9 +599,9 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     # (a stroke whose rows never move has no pieces: nothing to slow down)
     bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
     if bad.size == 0:
-        return bad
+        return bad, bad
     r = srow[idx[bad, np.argmin(d[bad], axis=1)]]
-    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
+    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1)), bad
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
@@ -745,7 +751,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     lines = [i for i in range(n) if len(S[i]) > 1]
     sq_first = arm.ik(firsts) if n else np.zeros((0, 2))
     sq_last = arm.ik(lasts) if n else np.zeros((0, 2))
-    drawn = {}
+    drawn, vloc = {}, {}
     if lines:
         pts = np.concatenate([S[i] for i in lines])
         sizes = np.array([len(S[i]) for i in lines])
@@ -758,6 +764,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         for j, i in enumerate(lines):
             a, b = pos[begins[j]], pos[ends[j] - 1]
             drawn[i] = (P[a:b + 1], Q[a:b + 1])
+            vloc[i] = pos[begins[j]:ends[j]] - a
 
     # Pen-up moves.
     qa = np.vstack([start[None], sq_last])
@@ -775,6 +782,10 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     base_stroke = base_dwell[-1] + 2 + np.concatenate([[0], np.cumsum(sizes)[:-1]]) if n \
         else np.zeros(0, int)
     n_keys = int(base_travel[-1] + 2 * n + sizes.sum())
+    # key and stroke of every vertex of the strokes of two or more points
+    vkey = np.concatenate([base_stroke[i] + vloc[i] for i in lines]) if lines else \
+        np.zeros(0, int)
+    vsid = np.repeat(lines, [len(S[i]) for i in lines]).astype(int)
 
     def travel(i):
         key = base_travel[i] + np.arange(n_travel[i])
@@ -824,13 +835,17 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         rows = _stream_violations(q, period, arm)
         rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
                                                 straight))
+        missed = np.zeros(0, int)
         if index is not None:
             rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
-            rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
+            vrows, missed = _vertex_misses(q, pen, stroke, arm, S, chord_tol)
+            rows = np.union1d(rows, vrows)
         if rows.size == 0:
             break
-        slowed = _slow_down(f, tv, tau, rows, period)
-        hit = np.unique(stroke[rows])
+        at = np.full(n_keys, -1)
+        at[path.key] = np.arange(len(path.key))
+        slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]])
+        hit = np.union1d(stroke[rows], vsid[missed])
         hit = hit[hit >= 0]
         tries[hit] += 1
         drop = hit[blend[hit] & (tries[hit] >= _BLEND_REPAIRS)]
