@@ -329,3 +329,34 @@ def test_no_strokes_and_no_pen_down_rows_is_no_deviation():
     r = check_stream(_rest((120.0, 60.0)), ARM, strokes=[])
     assert r.max_deviation_mm == 0.0 and r.pen_down_rows == 0
     assert np.isnan(r.max_tip_speed_mm_s)            # no pen-down pair to measure
+
+
+def test_stroke_vertex_cut_off_by_the_rows_is_caught():
+    # A thin spike 1 mm high on a straight stroke: rows along the base pass
+    # within chord_tol of the stroke everywhere (every row and midpoint lies
+    # on its base) but never reach the spike's tip, so the stroke is not
+    # drawn whole; the rule of `inkreach check` (check/plancheck.py).
+    c = ARM.fk(ARM.home())
+    base = c + np.array([[-5.0, 0.0], [5.0, 0.0]])
+    spike = c + np.array([[-5.0, 0.0], [0.0, 0.0], [0.0, 1.0], [0.02, 0.0], [5.0, 0.0]])
+    xs = np.concatenate([np.linspace(-5.0, 0.0, 251), np.linspace(0.02, 5.0, 250)])
+    q = ARM.ik(c + np.column_stack([xs, np.zeros_like(xs)]))
+    n = len(q)
+    s = JointStream(t=np.arange(n) * 0.02, q=q, pen=np.ones(n, np.int8), xy=ARM.fk(q),
+                    period=0.02, stroke=np.zeros(n, int))
+    r = check_stream(s, ARM, strokes=[base])
+    assert r.max_vertex_miss_mm <= 1e-9
+    assert r.max_deviation_mm <= 0.05
+    with pytest.raises(InkreachError, match=r"point 2 of stroke 0 .* from the drawn path, "
+                                            r"more than chord_tol 0\.05 mm"):
+        check_stream(s, ARM, strokes=[spike])
+    # a vertex a little inside the tolerance passes: the distance is exact up to it
+    low = spike.copy()
+    low[2, 1] = c[1] + 0.045
+    assert check_stream(s, ARM, strokes=[low]).max_vertex_miss_mm == pytest.approx(0.045,
+                                                                                   abs=1e-6)
+
+
+def test_good_stream_reports_its_vertex_miss():
+    r = check_stream(GOOD, ARM, strokes=LINE)
+    assert 0.0 <= r.max_vertex_miss_mm <= 0.05

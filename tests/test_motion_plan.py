@@ -183,6 +183,31 @@ def test_unsafe_joint_space_move_falls_back_to_a_straight_line():
     check_stream(s, arm, strokes=strokes)
 
 
+def test_straight_pen_up_move_keeps_to_the_tip_speed():
+    # The same straight pen-up move as above: its steps are marked and bound
+    # by the tip-speed limit (before, 301 mm/s on its 142 mm), and the check
+    # refuses a stream whose straight steps are faster than the limit given.
+    arm = load_arm("wide")
+    r = largest_rectangle(workspace_map(arm, cells=150))
+    box = r.center + 0.95 * (r.corners() - r.center)
+    strokes = [box[0][None], box[1][None]]
+    for tip in (80.0, 30.0):
+        s = plan_motion(strokes, arm, region=box, tip_speed=tip)
+        assert s.straight is not None and s.straight.sum() > 10
+        k = np.flatnonzero(s.straight[1:]) + 1
+        v = np.hypot(*(s.xy[k] - s.xy[k - 1]).T) / s.period
+        assert v.max() <= tip * (1 + 1e-9)
+        # at the limit most of the way (distance over speed: 142 mm at 30 mm/s
+        # takes at least 4.7 s), a bound we chose: 90 % of it
+        assert v.max() >= 0.9 * tip
+        check_stream(s, arm, strokes=strokes, tip_speed=tip)
+    with pytest.raises(InkreachError, match=r"on a straight pen-up move exceeds the tip "
+                                            r"limit 20 mm/s"):
+        check_stream(s, arm, strokes=strokes, tip_speed=20.0)
+    # joint-space pen-up moves are not marked
+    assert plan_motion([box[0][None], box[0][None] + 1.0], arm).straight is None
+
+
 def test_tip_speed_bounds_the_pen_speed_while_drawing():
     arm, box = _arm_and_box("default")
     line = np.array([box[0], box[1]])
@@ -455,7 +480,11 @@ def test_the_vertex_repair_names_the_rows_around_a_cut_corner():
     # chord_tol of the drawn path (rows and joint-space midpoints, in order).
     # Rows that jump over the apex of a corner leave it 1 mm away; the rows
     # around the jump (one before to two after its first row) are named.
-    from inkreach.motion.plan import _vertex_misses
+    from inkreach.motion.plan import _vertex_misses as _misses
+
+    def _vertex_misses(*args):          # the rows to slow down (the vertices come second)
+        return _misses(*args)[0]
+
     arm = load_arm("default")
     corner = np.array([[-10.0, 150.0], [0.0, 160.0], [10.0, 150.0]])
     xs = np.r_[np.arange(-10.0, 0.0), np.arange(1.0, 11.0)]        # no row at x = 0

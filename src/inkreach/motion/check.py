@@ -45,6 +45,9 @@ class StreamReport:
         Largest finite-difference pen speed ``|xy[k+1] - xy[k]| / period``
         (forward kinematics) over consecutive pen-down rows of one stroke,
         mm/s (NaN when there are no such rows).
+    max_vertex_miss_mm : float
+        Largest distance of a stroke vertex from the drawn path of its
+        stroke (NaN when no strokes were given).
     """
 
     rows: int
@@ -56,6 +59,7 @@ class StreamReport:
     max_deviation_mm: float
     pen_down_rows: int
     max_tip_speed_mm_s: float = float("nan")
+    max_vertex_miss_mm: float = float("nan")
 
 
 def _where(k, period):
@@ -149,6 +153,72 @@ def _distance_to_strokes(x, lab, strokes, chord_tol):
     return dist.min(axis=1)
 
 
+def _vertex_misses(x, xm, kd, lab, pair, strokes, chord_tol):
+    """Distance of every stroke vertex from the drawn path of its stroke.
+
+    The drawn path of a stroke is the polyline through its pen-down rows
+    ``x[kd]`` and, between two consecutive rows, their joint-space midpoint
+    ``xm`` (in row order). It is cut into pieces no longer than
+    ``h = 2 * chord_tol``; every piece within ``chord_tol`` of a vertex has
+    its midpoint within ``chord_tol + h / 2`` of it, so a k-d tree ball
+    search over the piece midpoints (the stroke index as a far-apart third
+    coordinate) finds all of them, and the exact point-to-segment distance
+    is taken to those. The result is exact up to ``chord_tol``; a vertex
+    with no piece that close reads infinite.
+
+    Parameters
+    ----------
+    x : ndarray, shape (N, 2)
+        Pen position of every row, mm.
+    xm : ndarray, shape (M, 2)
+        Joint-space midpoints of the row pairs ``pair``, mm.
+    kd : ndarray of int
+        Pen-down rows, increasing.
+    lab : ndarray of int, shape (N,)
+        Stroke of each row.
+    pair : ndarray of int, shape (M,)
+        First rows of consecutive pen-down row pairs of one stroke.
+    strokes : list of ndarray
+
+    Returns
+    -------
+    ndarray, shape (sum of stroke lengths,)
+        Distances in the order of the concatenated strokes.
+    """
+    h = 2.0 * chord_tol
+    # the drawn path in order: row kd[i], then the midpoint after it if any
+    has_mid = np.isin(kd, pair)
+    mid_at = np.searchsorted(pair, kd[has_mid])
+    n_pts = kd.size + int(has_mid.sum())
+    slot = np.arange(kd.size) + np.concatenate([[0], np.cumsum(has_mid)[:-1]])
+    pts = np.empty((n_pts, 2))
+    plab = np.empty(n_pts, int)
+    pts[slot], plab[slot] = x[kd], lab[kd]
+    pts[slot[has_mid] + 1], plab[slot[has_mid] + 1] = xm[mid_at], lab[kd[has_mid]]
+    same = plab[1:] == plab[:-1]
+    a, b, sl = pts[:-1][same], pts[1:][same], plab[:-1][same]
+    with np.errstate(invalid="ignore"):
+        m = np.maximum(1, np.ceil(np.hypot(*(b - a).T) / h)).astype(int)
+    w = np.repeat(np.arange(len(a)), m)
+    k = np.arange(m.sum()) - np.repeat(np.cumsum(m) - m, m)
+    u0, u1 = (k / m[w])[:, None], ((k + 1) / m[w])[:, None]
+    # every row is also a piece of its own (a stroke drawn on one row)
+    A = np.concatenate([a[w] + u0 * (b - a)[w], x[kd]])
+    B = np.concatenate([a[w] + u1 * (b - a)[w], x[kd]])
+    alab = np.concatenate([sl[w], lab[kd]])
+    V = np.concatenate(strokes)
+    vlab = np.repeat(np.arange(len(strokes)), [len(s) for s in strokes])
+    big = 1e7
+    tree_p = cKDTree(np.column_stack([0.5 * (A + B), alab * big]))
+    tree_v = cKDTree(np.column_stack([V, vlab * big]))
+    near = tree_v.sparse_distance_matrix(tree_p, chord_tol + 0.5 * h, output_type="ndarray")
+    iv, ip = near["i"].astype(int), near["j"].astype(int)
+    d = _point_segment_distance(V[iv], A[ip], B[ip])
+    out = np.full(len(V), np.inf)
+    np.minimum.at(out, iv, d)
+    return out
+
+
 def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_speed=None):
     """Check a finished joint stream against every limit of the arm.
 
@@ -159,7 +229,9 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
     the limits; the periods must be constant; and, when ``strokes`` are
     given, every pen-down row and the joint-space midpoint of every two
     consecutive pen-down rows must lie within ``chord_tol`` of its stroke,
-    and each stroke must start and end exactly at a row.
+    every vertex of a stroke must lie within ``chord_tol`` of the path its
+    rows draw (rows and midpoints in order: the stroke is drawn whole), and
+    each stroke must start and end exactly at a row.
 
     Parameters
     ----------
@@ -176,7 +248,8 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         kinematics, stroke ends), mm.
     tip_speed : float, optional
         Pen-tip speed limit, mm/s: the finite-difference speed of the forward
-        kinematics of every two consecutive pen-down rows of one stroke must
+        kinematics of every two consecutive pen-down rows of one stroke, and
+        of every step of a straight pen-up move (``stream.straight``), must
         not exceed it. Not checked when None.
 
     Returns
@@ -280,8 +353,21 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         if (k := _first(tip > vt)) is not None:
             _fail(f"{_where(int(both[k]) + 1, T)}: pen speed {tip[k]:.2f} mm/s exceeds the tip "
                   f"limit {float(tip_speed):g} mm/s; lower tip_speed and plan again")
+    straight = getattr(stream, "straight", None)
+    if straight is not None:
+        straight = np.asarray(straight, dtype=bool)
+        if straight.shape != (N,):
+            _fail(f"the stream's straight-move column has shape {straight.shape}, not ({N},); "
+                  "rebuild it with plan_motion")
+        ks = np.flatnonzero(straight[1:]) + 1
+        up = np.hypot(*(x[ks] - x[ks - 1]).T) / T
+        if tip_speed is not None and up.size:
+            if (k := _first(up > float(tip_speed) * (1 + _REL_TOL))) is not None:
+                _fail(f"{_where(int(ks[k]), T)}: pen speed {up[k]:.2f} mm/s on a straight "
+                      f"pen-up move exceeds the tip limit {float(tip_speed):g} mm/s; lower "
+                      "tip_speed and plan again")
 
-    deviation = float("nan")
+    deviation = vertex_miss = float("nan")
     if strokes is not None:
         S = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
         lab = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
@@ -292,7 +378,7 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         present[lab[down]] = True
         if (i := _first(~present)) is not None:
             _fail(f"stroke {i} is never drawn (no pen-down row); plan the motion again")
-        deviation = 0.0
+        deviation = vertex_miss = 0.0
         kd = np.flatnonzero(down)
         if kd.size:
             pair = kd[:-1][(np.diff(kd) == 1) & (lab[kd[1:]] == lab[kd[:-1]])]
@@ -327,6 +413,19 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
             if (i := _first(~(e1 <= atol))) is not None:
                 _fail(f"{_where(int(last[i]), T)}: the pen lifts {e1[i]:.4f} mm from the end "
                       f"of stroke {i}; plan the motion again")
+            # The stroke is drawn whole: no vertex is cut off.
+            miss = _vertex_misses(x, xm, kd, lab, pair, S, chord_tol)
+            worst = int(np.argmax(miss))
+            vertex_miss = float(miss[worst])
+            if not vertex_miss <= chord_tol:
+                sid = np.repeat(np.arange(len(S)), [len(s) for s in S])
+                i = int(sid[worst])
+                j = worst - int(np.searchsorted(sid, i))
+                far = f"{vertex_miss:.3f} mm" if np.isfinite(vertex_miss) else "too far"
+                _fail(f"{_where(int(first[i]), T)}: point {j} of stroke {i} at "
+                      f"({S[i][j, 0]:.3f}, {S[i][j, 1]:.3f}) mm is {far} from the drawn "
+                      f"path, more than chord_tol {chord_tol:g} mm; the stroke is not drawn "
+                      "whole; plan the motion again")
 
     return StreamReport(
         rows=N, duration=float(t[-1]), period=T,
@@ -335,4 +434,5 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
         max_accel_deg_s2=tuple(float(u) for u in np.rad2deg(a.max(axis=0) if len(a) else
                                                             np.zeros(2))),
         min_conditioning=float(c.min()), max_deviation_mm=deviation,
-        pen_down_rows=int(down.sum()), max_tip_speed_mm_s=max_tip)
+        pen_down_rows=int(down.sum()), max_tip_speed_mm_s=max_tip,
+        max_vertex_miss_mm=vertex_miss)

@@ -29,7 +29,7 @@ _CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_sto
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
-_BLEND_REPAIRS = 12              # repair rounds the corner blend gets before falling back
+_BLEND_REPAIRS = 12              # repair rounds a blended stroke gets before falling back
 
 
 def _as_strokes(strokes):
@@ -123,8 +123,12 @@ class _Path:
     """All pieces (pen-up moves, dwells, strokes) of a drawing as one vertex list."""
 
     def __init__(self, pieces):
-        # pieces: list of (kind, P or None, Q, pen, stroke)
+        # pieces: list of (kind, P or None, Q, pen, stroke[, key])
         sizes = np.array([len(p[2]) for p in pieces])
+        # key: a name for each vertex that stays the same when the pieces
+        # of a stroke are cut differently (see plan_motion's repairs)
+        self.key = np.concatenate([p[5] if len(p) > 5 else np.full(len(p[2]), -1)
+                                   for p in pieces])
         self.kind = np.array([p[0] for p in pieces])
         self.pen = np.array([p[3] for p in pieces], dtype=np.int8)
         self.stroke = np.array([p[4] for p in pieces])
@@ -161,10 +165,12 @@ def _geometry(path, arm, margin, tip_speed):
         vseg = np.where(qpm > 0, margin * lim.max_speed / qpm, np.inf)
         acc = np.where(qpm > 0, margin * lim.max_accel / qpm, np.inf)
     drawing = same & (vk[:-1] == _STROKE)
-    if np.any(drawing):
+    tipped = drawing | (same & (vk[:-1] == _TRAVEL_CART))
+    if np.any(tipped):
         # Joint-linear motion does not move the pen at a constant speed: bound
         # the pen speed per unit path speed by |J dq/ds| at both segment ends.
-        k = np.flatnonzero(drawing)
+        # The limit binds straight pen-up moves too.
+        k = np.flatnonzero(tipped)
         J0 = arm.jacobian(Q[k])
         J1 = arm.jacobian(Q[k + 1])
         g0 = np.hypot(*np.einsum("nij,nj->ni", J0, qp[k]).T)
@@ -384,7 +390,11 @@ def _row_times(path, dur, period, win):
 
 
 def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
-    """Time every piece, put it on the row clock, sample the rows."""
+    """Time every piece, put it on the row clock, sample the rows.
+
+    ``blend`` (a bool, or one per piece) says where a row need only land
+    near the vertex a piece ends at, rather than exactly on it.
+    """
     cap2 = _vertex_caps(path, g, arm, margin, period, chord_tol, f)
     vseg = g["vseg"] * f
     acc = g["acc"] * f * f
@@ -395,8 +405,7 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
     tv = np.concatenate([[0.0], np.cumsum(prof["dt"])])
     t0 = tv[path.first]
     dur = tv[path.last] - t0
-    win = _join_windows(path, g, w, f, period, chord_tol) if blend else \
-        np.full(len(dur), 1e-9 * period)
+    win = np.where(blend, _join_windows(path, g, w, f, period, chord_tol), 1e-9 * period)
     S, E = _row_times(path, dur, period, win)
     lo = np.floor(S / period + 1e-9).astype(int)
     hi = np.floor(E / period + 1e-9).astype(int)
@@ -434,12 +443,15 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
     pen[arrive] = 1
     stroke[arrive] = path.stroke[early]
     tau = np.concatenate([[np.nan], tau])
-    return q, pen, stroke, tau, tv
+    straight = np.concatenate([[False], path.kind[rp] == _TRAVEL_CART])
+    return q, pen, stroke, tau, tv, straight
 
 
-def _slow_down(f, tv, tau, rows, period):
-    """Scale down the limits of every segment near the offending rows."""
+def _slow_down(f, tv, tau, rows, period, times=None):
+    """Scale down the limits of every segment near the offending rows (and times)."""
     t = tau[rows]
+    if times is not None:
+        t = np.concatenate([t, times])
     t = t[np.isfinite(t)]
     if t.size == 0:
         return False
@@ -469,12 +481,14 @@ def _servo_frame_check(arm, period):
             f"{hz:g} Hz); use {f:g}, {2 * f:g} or {3 * f:g} s")
 
 
-def _tip_violations(q, pen, stroke, period, arm, tip_speed):
-    """First rows of pen-down row pairs whose finite-difference tip speed is too high."""
+def _tip_violations(q, pen, stroke, period, arm, tip_speed, straight=None):
+    """Rows of pen-down row pairs, or of steps of straight pen-up moves, too fast at the tip."""
     if len(q) < 2:
         return np.zeros(0, int)
     x = arm.fk(q)
     both = (pen[1:] == 1) & (pen[:-1] == 1) & (stroke[1:] == stroke[:-1])
+    if straight is not None:
+        both |= straight[1:]
     sp = np.hypot(*np.diff(x, axis=0).T) / period
     k = np.flatnonzero(both & (sp > tip_speed * (1 - 1e-9)))
     return np.unique(np.concatenate([k, k + 1]))
@@ -544,7 +558,11 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     joint-space midpoints between them, in order; every vertex of the
     stroke must lie within ``chord_tol`` of it (the stroke is drawn whole,
     the rule of ``inkreach check``). Rows that cut a corner, or two close
-    corners at once, too deeply are returned to be slowed down.
+    corners at once, too deeply are returned, and the missed vertices (as
+    indices into the concatenated strokes of two or more points): a stroke
+    that passes near its own vertex again later (hatching) may have its
+    nearest rows elsewhere in time, so the time around the vertex itself is
+    slowed down too.
     """
     from scipy.spatial import cKDTree
 
@@ -553,7 +571,7 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     kd = np.flatnonzero(pen == 1)
     lines = [i for i, x in enumerate(strokes) if len(x) > 1]
     if kd.size < 2 or not lines:
-        return np.zeros(0, int)
+        return np.zeros(0, int), np.zeros(0, int)
     lab = stroke[kd]
     pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
     xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
@@ -566,7 +584,7 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     # pieces of the drawn path, without the zero-length ones of the dwells
     same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
     if not np.any(same):
-        return np.zeros(0, int)
+        return np.zeros(0, int), np.zeros(0, int)
     A, B = pts[:-1][same], pts[1:][same]
     slab, srow = plab[:-1][same], prow[:-1][same]
     big = 1e7
@@ -581,9 +599,9 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     # (a stroke whose rows never move has no pieces: nothing to slow down)
     bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
     if bad.size == 0:
-        return bad
+        return bad, bad
     r = srow[idx[bad, np.argmin(d[bad], axis=1)]]
-    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
+    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1)), bad
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
@@ -610,15 +628,16 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
     inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
     stretched only as far as that needs, and only vertices whose slow-down
-    would cost more than about half a period are treated so; every stroke
-    vertex is then re-checked to lie within ``chord_tol`` of the drawn path
-    (rows and joint-space midpoints), and where the rows cannot be repaired
-    within a few rounds the whole drawing is timed without the blend.
-    Without it
-    the row lands exactly on the vertex and the stroke's time between such
-    vertices is stretched to a whole number of periods. Rows whose finite
-    differences still break a limit (joint speed, acceleration, or the tip
-    speed from forward kinematics) are slowed down locally and re-timed.
+    would cost more than about half a period are treated so; a stroke
+    whose rows cannot be repaired within a few rounds is timed again
+    without the blend, the other strokes keep it. Without it the row lands exactly
+    on the vertex and the stroke's time between such vertices is stretched
+    to a whole number of periods. Rows whose finite differences still break
+    a limit (joint speed, acceleration, or the tip speed from forward
+    kinematics), or next to which a stroke vertex lies further than
+    ``chord_tol`` from the drawn path (rows and joint-space midpoints: two
+    close sharp corners cut at once), are slowed down locally and
+    re-timed, with the blend or without.
     The stream is executed by holding each row for one period (zero-order
     hold): the pen is commanded down on the row where a pen-up move arrives
     at rest, and up on the row after a stroke's last row, and in both cases
@@ -640,7 +659,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         Sample period, seconds.
     tip_speed : float, optional
         Largest pen speed while drawing, mm/s (default :data:`TIP_SPEED`,
-        80), applied to every pen-down row pair.
+        80), applied to every pen-down row pair and to every step of a
+        straight pen-up move.
     region : array_like, shape (M, 2), optional
         A convex polygon (mm) where straight pen-up moves are known to be
         safe, e.g. the hull of the placed drawing.
@@ -731,7 +751,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     lines = [i for i in range(n) if len(S[i]) > 1]
     sq_first = arm.ik(firsts) if n else np.zeros((0, 2))
     sq_last = arm.ik(lasts) if n else np.zeros((0, 2))
-    drawn = {}
+    drawn, vloc = {}, {}
     if lines:
         pts = np.concatenate([S[i] for i in lines])
         sizes = np.array([len(S[i]) for i in lines])
@@ -744,6 +764,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         for j, i in enumerate(lines):
             a, b = pos[begins[j]], pos[ends[j] - 1]
             drawn[i] = (P[a:b + 1], Q[a:b + 1])
+            vloc[i] = pos[begins[j]:ends[j]] - a
 
     # Pen-up moves.
     qa = np.vstack([start[None], sq_last])
@@ -754,56 +775,95 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                                              _PATH_SHARE * chord_tol))) \
         if bad.size else {}
 
+    n_travel = [len(cart[i][1]) if i in cart else 2 for i in range(n + 1)]
+    base_travel = np.concatenate([[0], np.cumsum(n_travel)])
+    base_dwell = base_travel[-1] + 2 * np.arange(n)
+    sizes = np.array([len(drawn[i][0]) if i in drawn else 0 for i in range(n)], int)
+    base_stroke = base_dwell[-1] + 2 + np.concatenate([[0], np.cumsum(sizes)[:-1]]) if n \
+        else np.zeros(0, int)
+    n_keys = int(base_travel[-1] + 2 * n + sizes.sum())
+    # key and stroke of every vertex of the strokes of two or more points
+    vkey = np.concatenate([base_stroke[i] + vloc[i] for i in lines]) if lines else \
+        np.zeros(0, int)
+    vsid = np.repeat(lines, [len(S[i]) for i in lines]).astype(int)
+
     def travel(i):
+        key = base_travel[i] + np.arange(n_travel[i])
         if i in cart:
             P, Q = cart[i]
-            return (_TRAVEL_CART, P, Q, 0, -1)
-        return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1)
+            return (_TRAVEL_CART, P, Q, 0, -1, key)
+        return (_TRAVEL_JOINT, None, np.stack([qa[i], qb[i]]), 0, -1, key)
 
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
     index = _StrokeIndex(S, chord_tol) if n else None
+    cut_memo = {}
 
-    def timed(blend, repairs):
+    def build(blend):
         pieces = []
         for i in range(n):
             pieces.append(travel(i))
-            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i))
+            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i,
+                           base_dwell[i:i + 1]))
             if i in drawn:
                 P, Q = drawn[i]
-                cuts = _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend)
+                if (i, blend[i]) not in cut_memo:
+                    cut_memo[i, blend[i]] = _corner_stops(P, Q, arm, margin, period, chord_tol,
+                                                          tip_speed, blend[i])
+                cuts = cut_memo[i, blend[i]]
                 for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
-                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i))
-            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1))
+                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i,
+                                   base_stroke[i] + np.arange(a, b + 1)))
+            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1,
+                           base_dwell[i:i + 1] + 1))
         pieces.append(travel(n))
         path = _Path(pieces)
-        g = _geometry(path, arm, margin, tip_speed)
-        f = np.ones(len(g["length"]))
-        for _ in range(repairs):
-            q, pen, stroke, tau, tv = _time_path(path, g, arm, margin, period, chord_tol, f,
-                                                 n_dwell, blend)
-            rows = _stream_violations(q, period, arm)
-            rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed))
-            if index is not None:
-                rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index,
-                                                          chord_tol))
-                if blend:
-                    rows = np.union1d(rows, _vertex_misses(q, pen, stroke, arm, S, chord_tol))
-            if rows.size == 0:
-                break
-            if not _slow_down(f, tv, tau, rows, period):
-                break
-        return q, pen, stroke, rows
+        return path, _geometry(path, arm, margin, tip_speed)
 
-    # The blend first; where its rows cannot be repaired in a few rounds (tiny
-    # closed marks, e.g. stipple dots), the plain rows on every sharp vertex.
-    q, pen, stroke, rows = timed(True, _BLEND_REPAIRS) if corner_blend else (None,) * 4
-    if rows is None or rows.size:
-        q, pen, stroke, rows = timed(False, _MAX_REPAIRS)
+    # The blend first, on every stroke; a stroke whose rows still break a
+    # rule after a few rounds of repairs (tiny closed marks, e.g. stipple
+    # dots) is timed again with plain rows on every sharp vertex, its own
+    # slow-downs forgotten, while the others keep theirs and the blend.
+    blend = np.full(n, bool(corner_blend))
+    tries = np.zeros(n, int)
+    fkey = np.ones(n_keys)
+    path, g = build(blend)
+    f = fkey[path.key[:-1]]
+    for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
+        q, pen, stroke, tau, tv, straight = _time_path(
+            path, g, arm, margin, period, chord_tol, f, n_dwell,
+            np.r_[blend, False][path.stroke])
+        rows = _stream_violations(q, period, arm)
+        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
+                                                straight))
+        missed = np.zeros(0, int)
+        if index is not None:
+            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
+            vrows, missed = _vertex_misses(q, pen, stroke, arm, S, chord_tol)
+            rows = np.union1d(rows, vrows)
+        if rows.size == 0:
+            break
+        at = np.full(n_keys, -1)
+        at[path.key] = np.arange(len(path.key))
+        slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]])
+        hit = np.union1d(stroke[rows], vsid[missed])
+        hit = hit[hit >= 0]
+        tries[hit] += 1
+        drop = hit[blend[hit] & (tries[hit] >= _BLEND_REPAIRS)]
+        if drop.size:
+            inside = g["same"]
+            fkey[path.key[:-1][inside]] = f[inside]
+            for i in drop:
+                fkey[base_stroke[i]:base_stroke[i] + sizes[i]] = 1.0
+            blend[drop] = False
+            path, g = build(blend)
+            f = fkey[path.key[:-1]]
+        elif not slowed:
+            break
     if rows.size:
         raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
                          period=period, stroke=stroke, execution="hold",
-                         tip_speed=tip_speed)
+                         tip_speed=tip_speed, straight=straight if straight.any() else None)
     check_stream(stream, arm, strokes=S, chord_tol=chord_tol, tip_speed=tip_speed)
     return stream

@@ -31,6 +31,10 @@ class JointStream:
         one period). Dwells are counted in whole rows under this model.
     tip_speed : float or None
         The pen-tip speed limit the stream was planned under, mm/s.
+    straight : ndarray of bool, shape (N,), or None
+        True on row ``k`` when the step from row ``k - 1`` to it is part of
+        a straight (Cartesian) pen-up move, which the tip-speed limit binds
+        too; None when no row is so marked.
     """
 
     t: np.ndarray
@@ -41,6 +45,7 @@ class JointStream:
     stroke: np.ndarray = None
     execution: str = "hold"
     tip_speed: float = None
+    straight: np.ndarray = None
 
     def __len__(self):
         return len(self.t)
