@@ -77,3 +77,29 @@ def test_resume_stream_draws_the_rest_once_and_passes_the_check():
                         period=plan.period)
     check_stream(whole, arm, strokes=[cut_stroke(strokes[0], s0), strokes[1]], chord_tol=0.051,
                  atol=1e-3)
+
+
+@pytest.mark.parametrize("tip", [20.0, 40.0])
+def test_the_rest_of_a_stroke_keeps_the_plans_own_tip_speed(tip):
+    # The re-timed rest of an interrupted stroke is drawn under the plan's
+    # tip_speed (plan.json options), measured here as the finite-difference
+    # speed of the forward kinematics of consecutive pen-down rows (Craig 2005,
+    # ch. 7). Planned without the plan's options, the rest of a 40 mm straight
+    # stroke on the default arm runs at the default 80 mm/s instead.
+    arm = default_arm()
+    strokes = [np.array([[-20.0, 150.0], [20.0, 150.0]])]
+    plan = plan_motion(strokes, arm, tip_speed=tip)
+    runs = stroke_runs(plan.pen)
+    row = int(runs[0, 0] + 3)
+    cur = cursor_after_row(row, plan.pen, plan.xy, strokes)
+    posture = plan.q[row] + np.deg2rad([0.3, -0.2])
+
+    def top_speed(motion):
+        prefix = resume_stream(cur, posture, arm, plan.q, plan.pen, strokes, plan.period,
+                               motion=motion)[0]
+        both = (prefix.pen[1:] == 1) & (prefix.pen[:-1] == 1)
+        return (np.hypot(*np.diff(arm.fk(prefix.q), axis=0).T)[both] / prefix.period).max()
+
+    got = top_speed({"tip_speed": tip, "chord_tol": 0.05, "corner_blend": True})
+    assert 0.9 * tip <= got <= tip * (1 + 1e-6)         # the long straight rest reaches it
+    assert top_speed(None) > 1.5 * tip                  # the default limit is not the plan's

@@ -116,7 +116,39 @@ def _skip_done(cursor, strokes):
     return Cursor(k, s)
 
 
-def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=False):
+#: Positions of rows read back from joints.csv are trusted to this, mm (its angles
+#: are printed to 1e-4 degree, a few 1e-4 mm at the pen on a desk arm).
+_ROW_ATOL = 1e-3
+
+
+def _motion_options(motion):
+    """The plan's motion options (plan.json ``options``) the prefix is planned with."""
+    m = dict(motion or {})
+    tip = m.get("tip_speed", 80.0)
+    return {"chord_tol": float(m.get("chord_tol", 0.05)),
+            "tip_speed": None if tip is None else float(tip),
+            "corner_blend": bool(m.get("corner_blend", True))}
+
+
+def _check_joined(q, pen, arm, period, strokes, opts):
+    """Check the joined stream under the plan's own limits.
+
+    Rows read back from joints.csv are exact to ``_ROW_ATOL``, so distances
+    get that much and speeds twice that per period on top of the plan's
+    chord tolerance and tip speed.
+    """
+    from ..motion import JointStream, check_stream
+
+    whole = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
+                        period=period)
+    tip = opts["tip_speed"]
+    check_stream(whole, arm, strokes=strokes, chord_tol=opts["chord_tol"] + _ROW_ATOL,
+                 atol=_ROW_ATOL,
+                 tip_speed=None if tip is None else tip + 2 * _ROW_ATOL / period)
+
+
+def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=False,
+                  motion=None):
     """The stream that finishes a plan from ``cursor``, starting at rest at ``posture``.
 
     Parameters
@@ -128,6 +160,10 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
         The plan's rows (radians, pen).
     strokes : list of ndarray
         The plan's strokes (mm), in drawing order.
+    motion : dict, optional
+        The plan's motion options (``chord_tol``, ``tip_speed``,
+        ``corner_blend`` of plan.json's ``options``): the re-timed rest of
+        the stroke is planned and checked under the same limits as the plan.
 
     Returns
     -------
@@ -145,8 +181,9 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
     InkreachError
         When no safe approach exists or the joined stream fails the check.
     """
-    from ..motion import JointStream, check_stream, plan_motion
+    from ..motion import plan_motion
 
+    opts = _motion_options(motion)
     cursor = _skip_done(cursor, strokes)
     runs = stroke_runs(pen_rows)
     n = len(q_rows)
@@ -157,35 +194,32 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
         draw = [cut_stroke(strokes[k], cursor.s)]
         tail_from = int(runs[k, 1]) + 1
         end = q_rows[min(tail_from, n - 1)]
-    prefix = plan_motion(draw, arm, start=np.asarray(posture, float), end=end, period=period)
+    prefix = plan_motion(draw, arm, start=np.asarray(posture, float), end=end, period=period,
+                         **opts)
     q = np.concatenate([prefix.q, q_rows[tail_from:]])
     pen = np.concatenate([prefix.pen, pen_rows[tail_from:]]).astype(np.int8)
     if rehearse:
         pen[:] = 0
-    whole = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
-                        period=period)
     later = strokes[cursor.stroke + 1:] if cursor.stroke >= 0 else []
-    check_stream(whole, arm, strokes=None if rehearse else draw + list(later),
-                 chord_tol=0.05 + 1e-3, atol=1e-3)
+    _check_joined(q, pen, arm, period, None if rehearse else draw + list(later), opts)
     return prefix, tail_from, cursor.stroke, cursor.s, q, pen
 
 
-def approach_stream(posture, arm, q_rows, pen_rows, strokes, period, rehearse=False):
+def approach_stream(posture, arm, q_rows, pen_rows, strokes, period, rehearse=False,
+                    motion=None):
     """A pen-up approach from ``posture`` to the plan's first row, then the whole plan.
 
     Returns the same tuple as :func:`resume_stream` (``stroke`` is -1: the
-    prefix draws nothing).
+    prefix draws nothing); ``motion`` as there.
     """
-    from ..motion import JointStream, check_stream, plan_motion
+    from ..motion import plan_motion
 
+    opts = _motion_options(motion)
     prefix = plan_motion([], arm, start=np.asarray(posture, float), end=q_rows[0],
-                         period=period)
+                         period=period, **opts)
     q = np.concatenate([prefix.q, q_rows])
     pen = np.concatenate([prefix.pen, pen_rows]).astype(np.int8)
     if rehearse:
         pen[:] = 0
-    whole = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
-                        period=period)
-    check_stream(whole, arm, strokes=None if rehearse else list(strokes),
-                 chord_tol=0.05 + 1e-3, atol=1e-3)
+    _check_joined(q, pen, arm, period, None if rehearse else list(strokes), opts)
     return prefix, 0, -1, 0.0, q, pen

@@ -216,6 +216,7 @@ def _run_once(folder, port, rehearse, resume, keys):
         meta = json.load(f)
     rows = np.loadtxt(os.path.join(folder, "joints.csv"), delimiter=",", skiprows=1, ndmin=2)
     period = float(meta.get("stats", {}).get("period_s", 0.02))
+    motion = meta.get("options", {})          # chord_tol, tip_speed, corner_blend of the plan
     q_rows, pen_rows, xy_rows = np.deg2rad(rows[:, 1:3]), rows[:, 3].astype(np.int8), rows[:, 4:6]
     strokes = [np.asarray(s, float).reshape(-1, 2) for s in meta.get("strokes", [])]
     if len(R.stroke_runs(pen_rows)) != len(strokes):
@@ -284,10 +285,12 @@ def _run_once(folder, port, rehearse, resume, keys):
         else:
             if resume:
                 prefix, tail_from, k, s0, q_send, pen_send = R.resume_stream(
-                    cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse)
+                    cursor, posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse,
+                    motion=motion)
             else:   # a pen-up approach from where the motors are to the plan's start
                 prefix, tail_from, k, s0, q_send, pen_send = R.approach_stream(
-                    posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse)
+                    posture, arm, q_rows, pen_rows, strokes, period, rehearse=rehearse,
+                    motion=motion)
             units = P.to_units(np.rad2deg(q_send))
             units[0] = posture_u   # start exactly where the motors are
             npre = len(prefix.q)
