@@ -14,7 +14,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import InkreachError
 
 __all__ = ["Cursor", "stroke_runs", "arc_position", "cut_stroke", "cursor_after_row",
            "resume_stream", "approach_stream"]

@@ -280,7 +280,6 @@ def _run_once(folder, port, rehearse, resume, keys):
                 pen_send[:] = 0
             stream_map = {"prefix_xy": [], "prefix_pen": [], "prefix_units": [], "stroke": -1,
                           "s0": 0.0, "tail_from": 0, "before": -1}
-            done_rows = 0
             units = P.to_units(rows[:, 1:3])
         else:
             if resume:
@@ -299,7 +298,6 @@ def _run_once(folder, port, rehearse, resume, keys):
                           "prefix_units": units[:npre].tolist(), "stroke": int(k),
                           "s0": float(s0), "tail_from": int(tail_from),
                           "before": int(k) if resume else (0 if len(strokes) else -1)}
-            done_rows = int(tail_from)
         base = attempt << 24
         state = {"format": 1, "digest": digest, "rows": int(len(rows)), "attempt": attempt,
                  "base": base, "rehearse": bool(rehearse), "stream": stream_map,

@@ -129,8 +129,6 @@ def _position_in_segment(prof, seg, tau):
     a = prof["acc"][seg]
     t1 = prof["t1"][seg]
     t2 = prof["t2"][seg]
-    s1 = prof["s1"][seg]
-    s2 = prof["s2"][seg]
     L = prof["length"][seg]
     ta = np.minimum(tau, t1)
     s = v0 * ta + 0.5 * a * ta * ta
