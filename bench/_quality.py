@@ -12,7 +12,7 @@ __all__ = ["stroke_sets", "section_route", "section_kinematics", "section_drawin
 def stroke_sets(cfg):
     """Real stroke sets in arm mm from traced pictures, with a start point."""
     from inkreach.arms import default_arm, workspace_map
-    from inkreach.demo import emblem, still_life
+    from inkreach.cli.demo import emblem, still_life
 
     arm = default_arm()
     wmap = workspace_map(arm)
@@ -112,8 +112,8 @@ def section_kinematics(cfg, results):
 
 
 def section_drawing(cfg, results):
-    from inkreach.demo import still_life
-    from inkreach.fidelity import plan_fidelity
+    from inkreach.cli.demo import still_life
+    from inkreach.likeness import plan_fidelity
 
     img = np.asarray(still_life(960, 720))
     rows = []
@@ -137,7 +137,7 @@ def section_drawing(cfg, results):
             "from `plan.stats` (pen-down, pen-up travel and the lift dwell add up to the estimate). Fidelity: the drawing "
             "rendered from the stream's angles (FK) against the picture in linear "
             "reflectance, both blurred at 3.5 pen widths (SSIM of Wang et al. 2004 and "
-            "mean absolute tone error; `inkreach.fidelity`).\n\n"
+            "mean absolute tone error; `inkreach.likeness`).\n\n"
             + table(["style", "strokes", "pen lifts", "pen-down mm", "pen-up mm",
                       "estimated s", "pen-down s", "pen-up s", "lift dwell s", "SSIM",
                       "tone error", "fidelity s"], rows))

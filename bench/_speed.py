@@ -27,7 +27,7 @@ def pictures(sizes_mp):
     import cv2
     from skimage import data
 
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
 
     cam = data.camera()
     out = {}
@@ -106,7 +106,7 @@ def section_speed(cfg, pics, results):
 def section_memory(cfg, results):
     import cv2
 
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
 
     rows = []
     base = np.asarray(still_life(1155, 866))
@@ -148,7 +148,7 @@ def child_env():
 
 def section_growth(cfg, results):
     from inkreach.arms import default_arm, workspace_map
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
 
     arm = default_arm()
     wmap = workspace_map(arm)

@@ -165,7 +165,7 @@ def cases():
     from skimage import data
 
     from inkreach.arms import load_arm
-    from inkreach.demo import emblem, still_life
+    from inkreach.cli.demo import emblem, still_life
 
     life = np.asarray(still_life(960, 720))
     camera = data.camera()

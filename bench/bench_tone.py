@@ -33,7 +33,7 @@ def _photo(name):
 def section(cfg=None):
     """The Markdown body of the section (photos fewer with ``cfg['runs'] == 1``)."""
     import inkreach
-    from inkreach.fidelity import TONE_TARGETS
+    from inkreach.likeness import TONE_TARGETS
 
     quick = bool(cfg) and cfg.get("runs", 3) == 1
     photos = PHOTOS[:2] if quick else PHOTOS

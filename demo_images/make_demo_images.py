@@ -2,7 +2,7 @@
 
 import os
 
-from inkreach.demo import write_demo_pictures
+from inkreach.cli.demo import write_demo_pictures
 
 if __name__ == "__main__":
     for path in write_demo_pictures(os.path.dirname(os.path.abspath(__file__))):

@@ -14,7 +14,7 @@ from inkreach.cli import main
 
 @pytest.fixture()
 def emblem_png(tmp_path):
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     p = tmp_path / "emblem.png"
     emblem(240).save(p)
     return p

@@ -9,7 +9,7 @@ from skimage.metrics import structural_similarity
 
 from inkreach.errors import InkreachError
 from inkreach.trace import linear_to_srgb
-from inkreach.fidelity import (Fidelity, drawn_polylines, fidelity, fidelity_images,
+from inkreach.likeness import (Fidelity, drawn_polylines, fidelity, fidelity_images,
                                plan_fidelity, render_coverage)
 
 # SSIM constants of Wang, Bovik, Sheikh & Simoncelli (2004), IEEE TIP 13(4), eq. (7)-(9):
@@ -239,7 +239,7 @@ def test_fidelity_needs_the_picture():
 
 @pytest.mark.parametrize("style", ["centerline", "hatch"])
 def test_real_plan_of_the_demo_picture_scores_in_range(style):
-    from inkreach.demo import demo_picture
+    from inkreach.cli.demo import demo_picture
     from inkreach.plan import plan
 
     path, _ = demo_picture("emblem")
@@ -265,7 +265,7 @@ def test_real_plan_of_the_demo_picture_scores_in_range(style):
 def test_stage_outputs_of_the_demo_picture_score_in_range(style):
     # The real stages in turn (trace, place, route, motion) without the planner.
     from inkreach.arms import default_arm, workspace_map
-    from inkreach.demo import demo_picture
+    from inkreach.cli.demo import demo_picture
     from inkreach.motion import plan_motion
     from inkreach.place import place_drawing, provisional_scale
     from inkreach.route import order_strokes

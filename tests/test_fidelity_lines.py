@@ -7,7 +7,7 @@ from PIL import Image, ImageDraw
 from skimage.draw import rectangle_perimeter
 
 import inkreach
-from inkreach.fidelity_lines import line_likeness_images, picture_lines
+from inkreach.likeness import line_likeness_images, picture_lines
 
 
 def _box_lines(shape=(120, 160), top_left=(30, 40), size=(60, 80)):

@@ -6,7 +6,7 @@ from scipy import ndimage
 from skimage.metrics import structural_similarity
 
 from inkreach.errors import InkreachError
-from inkreach.fidelity import (TONE_TARGETS, ToneLikeness, cie_lightness, render_coverage,
+from inkreach.likeness import (TONE_TARGETS, ToneLikeness, cie_lightness, render_coverage,
                                tone_likeness_images)
 
 

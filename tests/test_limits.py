@@ -151,7 +151,7 @@ def test_work_above_the_budget_is_refused_before_it_starts(options, last, pic):
 
 
 def test_a_slow_arm_is_refused_before_its_motion_is_timed(tmp_path, capsys):
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     arm = _DEFAULT.replace("max_speed_deg_s = 180.0", "max_speed_deg_s = 0.1")
     seen, exc = _stages_until_refused(emblem(400), arm=arm)
     assert isinstance(exc, _limits().BudgetError) and exc.key == "rows"

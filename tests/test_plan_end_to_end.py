@@ -17,7 +17,7 @@ STYLES = ("outline", "centerline", "hatch", "stipple", "contour")
 
 @pytest.fixture(scope="module")
 def still_life_small(tmp_path_factory):
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
     path = tmp_path_factory.mktemp("pics") / "still.png"
     still_life(320, 240).save(path)
     return path
@@ -87,7 +87,7 @@ def test_every_style_plans_the_still_life_on_the_default_arm(style, still_life_s
 @pytest.mark.parametrize("arm_name", ["wide", "serial"])
 @pytest.mark.parametrize("style", ["centerline", "hatch"])
 def test_example_arms_plan_and_pass_independent_checks(arm_name, style, tmp_path):
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     path = tmp_path / "emblem.png"
     emblem(300).save(path)
     arm = load_arm(arm_name)
@@ -130,7 +130,7 @@ def test_same_input_gives_byte_identical_plan_and_joints(still_life_small):
 
 
 def test_plan_accepts_a_pillow_image_and_an_array():
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     im = emblem(200)
     p1 = inkreach.plan(im, style="centerline", fidelity=False)
     p2 = inkreach.plan(np.asarray(im), style="centerline", fidelity=False)
@@ -139,7 +139,7 @@ def test_plan_accepts_a_pillow_image_and_an_array():
 
 
 def test_save_writes_every_file(tmp_path):
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     p = inkreach.plan(emblem(200), style="centerline", fidelity=False)
     written = p.save(tmp_path / "out")
     for name, path in written.items():
@@ -151,7 +151,7 @@ def test_save_writes_every_file(tmp_path):
 
 
 def test_progress_reports_every_stage_in_order_then_done():
-    from inkreach.demo import emblem
+    from inkreach.cli.demo import emblem
     from inkreach.plan import STAGES
     seen = []
     inkreach.plan(emblem(160), style="centerline", progress=lambda *a: seen.append(a))

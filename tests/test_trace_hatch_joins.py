@@ -5,7 +5,7 @@ import importlib
 import numpy as np
 from skimage import data
 
-from inkreach.fidelity import tone_likeness_images
+from inkreach.likeness import tone_likeness_images
 from inkreach.trace import hatch as hatch_style
 from inkreach.trace import load_image, render_strokes
 hatch_mod = importlib.import_module("inkreach.trace.hatch")   # the module, not the function

@@ -5,7 +5,7 @@ import pytest
 from skimage import data
 
 from _cv_render import cv_coverage
-from inkreach.fidelity import tone_likeness_images
+from inkreach.likeness import tone_likeness_images
 from inkreach.trace import load_image, render_strokes, trace, wave, zigzag_coverage
 
 

@@ -13,7 +13,7 @@ SVG = (b'<svg xmlns="http://www.w3.org/2000/svg" width="80mm" height="60mm" '
 
 @pytest.fixture(scope="module")
 def picture(tmp_path_factory):
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
     path = tmp_path_factory.mktemp("pics") / "still.png"
     still_life(200, 150).save(path)
     return path

@@ -178,7 +178,7 @@ def test_text_height_fixes_the_letter_size_on_the_arm(futural):
 
 
 def test_caption_is_placed_under_the_picture_together(tmp_path):
-    from inkreach.demo import still_life
+    from inkreach.cli.demo import still_life
     path = tmp_path / "still.png"
     still_life(240, 180).save(path)
     plain = inkreach.plan(path, style="outline", fidelity=False, rotations=[0.0])

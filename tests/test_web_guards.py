@@ -121,7 +121,7 @@ def test_a_busy_port_is_one_line_on_the_command_line(tmp_path):
 
 
 def test_environment_messages_are_one_line_each():
-    from inkreach.cli_errors import environment_message
+    from inkreach.cli.messages import environment_message
     for code, words in [(errno.ENOSPC, "disk is full"), (errno.EFBIG, "size limit"),
                         (errno.EACCES, "permission"), (errno.EADDRINUSE, "in use")]:
         msg = environment_message(OSError(code, os.strerror(code)))

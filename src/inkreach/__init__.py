@@ -36,8 +36,8 @@ _LAZY = {
     "PenSpec": ".arms", "workspace_map": ".arms", "largest_rectangle": ".arms",
     "JointStream": ".motion", "check_stream": ".motion",
     "load_image": ".trace", "STYLES": ".trace", "style_options": ".trace",
-    "fidelity": ".fidelity", "Fidelity": ".fidelity", "plan_fidelity": ".fidelity",
-    "tone_likeness": ".fidelity", "ToneLikeness": ".fidelity", "STYLE_RENDERS": ".trace",
+    "fidelity": ".likeness", "Fidelity": ".likeness", "plan_fidelity": ".likeness",
+    "tone_likeness": ".likeness", "ToneLikeness": ".likeness", "STYLE_RENDERS": ".trace",
 }
 
 __all__ = sorted(_LAZY) + ["InkreachError", "__version__"]
@@ -58,7 +58,7 @@ def __dir__():
 
 
 class _Package(types.ModuleType):
-    """Keeps ``inkreach.plan`` and ``inkreach.fidelity`` the functions.
+    """Keeps ``inkreach.plan`` the function.
 
     Importing the submodules of the same names would otherwise rebind the
     package attributes to the modules.

@@ -292,7 +292,7 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
              reached_xy=reached)
     if own["fidelity"] and kind == "picture" and vec_opts["caption"] is None:
         step("fidelity")
-        from .fidelity import plan_fidelity
+        from .likeness import plan_fidelity
         stats["fidelity"] = plan_fidelity(p, pic)     # the loaded picture, not read again
     if progress is not None:
         progress("done", len(STAGES), len(STAGES))

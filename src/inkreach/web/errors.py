@@ -65,13 +65,13 @@ def add_error_handlers(app, log):
 
     @app.exception_handler(OSError)
     async def _environment(request, exc):
-        from ..cli_errors import environment_message
+        from ..cli.messages import environment_message
         log.warning("environment error: %s", exc)
         return error_response(503, environment_message(exc))
 
     @app.exception_handler(MemoryError)
     async def _memory(request, exc):
-        from ..cli_errors import environment_message
+        from ..cli.messages import environment_message
         return error_response(503, environment_message(exc))
 
     @app.exception_handler(Abandoned)

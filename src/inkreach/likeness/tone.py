@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import cv2
 import numpy as np
 
-from .errors import InkreachError
+from ..errors import InkreachError
 
 __all__ = ["Fidelity", "fidelity", "fidelity_images", "plan_fidelity", "render_coverage",
            "drawn_polylines", "WORK_SIDE", "BLUR_PEN_WIDTHS", "ToneLikeness", "tone_likeness",
@@ -139,7 +139,7 @@ def render_coverage(polylines, shape, pen_px, supersample=4):
     >>> round(float(cov.sum(axis=0).mean()), 2)   # 3 px of ink down each column
     3.0
     """
-    from .trace import render_strokes
+    from ..trace import render_strokes
     return render_strokes(polylines, shape, pen_px, supersample=supersample)
 
 
@@ -253,7 +253,7 @@ def _comparison_picture(plan_or_parts, image, max_side):
     loaded picture is, so figures recomputed from the files equal the ones
     the plan recorded.
     """
-    from .trace import Picture, load_image
+    from ..trace import Picture, load_image
 
     if not isinstance(image, Picture):
         work = (getattr(plan_or_parts, "options", None) or {}).get("max_side", ...)
@@ -508,11 +508,11 @@ def plan_fidelity(plan, image):
         comparison at a 1.5 mm blur, ``tone_range_ratio``,
         ``lightness_diff``, ``drawn_lightness``, ``picture_lightness``); for
         a style that renders lines, the line likeness (see
-        :mod:`inkreach.fidelity_lines`). Rounded to 4 decimals.
+        :mod:`inkreach.likeness.lines`). Rounded to 4 decimals.
     """
-    from .trace import style_renders
+    from ..trace import style_renders
     if style_renders(plan.style) == "lines":
-        from .fidelity_lines import plan_line_likeness
+        from .lines import plan_line_likeness
         return plan_line_likeness(plan, image)
     if style_renders(plan.style) == "tone":
         return tone_likeness(plan, image).as_dict(4)

@@ -11,7 +11,7 @@ import tempfile
 import numpy as np
 from PIL import Image, ImageDraw, ImageFont
 
-from .errors import InkreachError
+from ..errors import InkreachError
 
 __all__ = ["still_life", "emblem", "postcard_text", "DEMO_PICTURES", "POSTCARD",
            "demo_picture", "write_demo_pictures"]
@@ -169,7 +169,7 @@ def demo_picture(name="emblem"):
                             f"{', '.join(DEMO_PICTURES)}")
     maker, style = DEMO_PICTURES[name]
     here = os.path.dirname(os.path.abspath(__file__))
-    shipped = os.path.normpath(os.path.join(here, "..", "..", "demo_images", f"{name}.png"))
+    shipped = os.path.normpath(os.path.join(here, "..", "..", "..", "demo_images", f"{name}.png"))
     if os.path.isfile(shipped):
         return shipped, style
     folder = os.path.join(tempfile.gettempdir(), "inkreach-demo")

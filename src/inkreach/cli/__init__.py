@@ -5,7 +5,7 @@ import json
 import os
 import sys
 
-from .errors import InkreachError
+from ..errors import InkreachError
 
 __all__ = ["main"]
 
@@ -138,7 +138,7 @@ def build_parser():
                    help="the picture: PNG, JPEG, WebP, TIFF, BMP or GIF, or an SVG file "
                         "(optional with --text)")
     _add_plan_options(p)
-    from .vector.cli import add_text_options
+    from ..vector.cli import add_text_options
     add_text_options(p)
 
     d = sub.add_parser("demo", help="plan the shipped demo picture on the default arm",
@@ -198,17 +198,17 @@ def build_parser():
     st = sub.add_parser("styles", help="list the drawing styles and their options")
     st.add_argument("--format", choices=("table", "json"), default="table",
                     help="plain text or JSON (default table)")
-    from .board.cli import add_board_commands
+    from ..board.cli import add_board_commands
     _COMMANDS.update(add_board_commands(sub))
-    from .board.run_cli import add_run_command
+    from ..board.run_cli import add_run_command
     add_run_command(sub, _COMMANDS)
-    from .check.command import add_parser as _add_check
+    from ..check.command import add_parser as _add_check
     _add_check(sub)
     return top
 
 
 def _version():
-    from . import __version__
+    from .. import __version__
     return f"inkreach {__version__}"
 
 
@@ -220,12 +220,12 @@ def _preload(command):
     """
     import numpy  # noqa: F401
     if command in ("plan", "demo", "check", "run"):
-        from . import plan  # noqa: F401
+        from .. import plan  # noqa: F401
 
 
 def main(argv=None):
     """Run the command line; returns the exit status."""
-    from ._startup import normal_interrupts
+    from .._startup import normal_interrupts
     try:
         parser = build_parser()
         args = parser.parse_args(argv)
@@ -240,7 +240,7 @@ def main(argv=None):
     try:
         return _COMMANDS[args.command](args)
     except InkreachError as exc:
-        from .limits import BudgetError
+        from ..limits import BudgetError
         hint = ""
         if isinstance(exc, BudgetError):
             hint = f" (or raise the budget: --budget {exc.key}={_round_budget(exc.needed)})"
@@ -250,7 +250,7 @@ def main(argv=None):
         print(f"inkreach: stopped; {_stopped_what(args, exc)}", file=sys.stderr)
         return 130
     except (OSError, MemoryError) as exc:
-        from .cli_errors import environment_message
+        from .messages import environment_message
         print(f"inkreach: error: {environment_message(exc, args)}", file=sys.stderr)
         return 2
     except Exception as exc:  # a bug, not bad input: say so in one line
@@ -289,7 +289,7 @@ def _stopped_what(args, exc):
 
 
 def _plan_kwargs(args):
-    from .limits import budget_from_text, describe_text
+    from ..limits import budget_from_text, describe_text
 
     opts = {}
     for item in args.set:
@@ -333,11 +333,11 @@ def _check_out_dir(path):
 
 
 def _cmd_plan(args, image=None, style=None, extra=None):
-    from .plan import plan
+    from ..plan import plan
 
     _check_out_dir(args.out)
-    from .vector.cli import print_warnings, text_kwargs
-    from .export.folder import check_replaceable
+    from ..vector.cli import print_warnings, text_kwargs
+    from ..export.folder import check_replaceable
     check_replaceable(args.out)  # refused now, not after the planning
     image = args.image if image is None else image
     style = args.style if style is None else style
@@ -366,13 +366,13 @@ def _cmd_demo(args):
 
 
 def _cmd_arm(args):
-    from .plan import resolve_arm
-    from .arms.report import arm_report
+    from ..plan import resolve_arm
+    from ..arms.report import arm_report
 
     _check_out_dir(args.out)
     arm = resolve_arm(args.arm)
     rep, files = arm_report(arm)
-    from .export import write_files
+    from ..export import write_files
     write_files(args.out, files)
     written = {n: os.path.join(args.out, n) for n in files}
     if args.format == "json":
@@ -398,18 +398,18 @@ def _cmd_arm(args):
 
 
 def _cmd_serve(args):
-    from .web import serve
+    from ..web import serve
     serve(host=args.host, port=args.port, allow_network=args.allow_network)
     return 0
 
 
 def _cmd_calibrate(args):
-    from .calibrate.cli import run_calibrate
+    from ..calibrate.cli import run_calibrate
     return run_calibrate(args)
 
 
 def _cmd_styles(args):
-    from .trace import style_catalogue
+    from ..trace import style_catalogue
     table = style_catalogue()
     if getattr(args, "format", "table") == "json":
         print(json.dumps({"styles": table}, indent=2))
@@ -423,7 +423,7 @@ def _cmd_styles(args):
 
 
 def _cmd_check(args):
-    from .check.command import run
+    from ..check.command import run
     return run(args)
 
 
@@ -465,7 +465,7 @@ def _figures_table(result, written):
     if st.get("paper_note"):
         rows.append(("paper", st["paper_note"]))
     if "fidelity" in st:
-        from .export import likeness_text
+        from ..export import likeness_text
         rows.append(("likeness", likeness_text(st["fidelity"])))
     rows.append(("stream", f"{st['rows']} rows every {st['period_s'] * 1000:g} ms, all checked"))
     width = max(len(k) for k, _ in rows)
@@ -488,7 +488,7 @@ class _Progress:
         if self.enabled:
             from tqdm import tqdm
 
-            from .plan import STAGES
+            from ..plan import STAGES
             self.bar = tqdm(total=len(STAGES), desc="planning", unit="stage", file=sys.stderr,
                             leave=False, bar_format="{desc:<18} {bar} {n_fmt}/{total_fmt}")
         return self

@@ -23,7 +23,7 @@ import cv2
 import numpy as np
 from scipy import ndimage
 
-from .errors import InkreachError
+from ..errors import InkreachError
 
 __all__ = ["LineLikeness", "line_likeness_images", "line_likeness", "picture_lines",
            "plan_line_likeness", "LINE_WORK_SIDE"]
@@ -235,7 +235,7 @@ def line_likeness(plan_or_parts, image, style, *, max_side=LINE_WORK_SIDE):
     -------
     LineLikeness
     """
-    from .fidelity import _on_comparison_grid
+    from .tone import _on_comparison_grid
 
     pic, paths, _, pen_px = _on_comparison_grid(plan_or_parts, image, max_side,
                                                 what="the likeness")
