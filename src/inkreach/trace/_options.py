@@ -119,8 +119,10 @@ OPTIONS = {
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
         "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
         "mode": ("dots", "'dots' fills each dot back and forth, as large as its share of "
-                         "the tone, 'touch' only touches the paper, 'line' joins the dot "
-                         "centres in one path", _Choice("dots", "touch", "line")),
+                         "the tone, and fills dark areas with dense lines that follow the "
+                         "tone (crossed near black); 'touch' only touches the paper at each "
+                         "dot; 'line' joins the dot centres in one path",
+                 _Choice("dots", "touch", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),
         "contrast": (1.0, "dot density follows darkness to this power: 1 spreads dots in "
                           "proportion to darkness, lower gives light parts more, smaller dots",
