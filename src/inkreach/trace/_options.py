@@ -104,7 +104,7 @@ OPTIONS = {
                           "ink matches the picture; at least 0.5: closer lines cannot be told apart)",
                     _Number(0.5, 1000.0, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
-        "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
+        "layers": (3, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
         "levels": (32, "how many tone steps are told apart (32 matches the line lattice's "
                        "own steps)", _Number(2, 64, integer=True)),
         "smooth": (None, "blur of the tones before hatching, in pixels (None: 1.5 pen widths)",
