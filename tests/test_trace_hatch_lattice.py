@@ -31,7 +31,7 @@ def test_hatch_lines_of_every_tone_lie_on_one_lattice_per_direction():
     # Lines of neighbouring tones are collinear: the offsets of all lines of
     # one direction are whole multiples of one spacing apart.
     strokes = hatch(_ramp(), pen_px=2.0)
-    # hops between zig-zags are at most 12 lattice spacings (<= 2.5 pens each): 60 px
+    # hops between zig-zags are at most 20 lattice spacings (<= 1.43 pens each): 57 px
     ang, off = _lines(strokes, min_len=70.0)
     for a in np.unique(ang):
         if (ang == a).sum() < 3:

@@ -58,7 +58,7 @@ class Budget:
         Pixel visits of tracing: the working picture's pixels, times the
         layers over the line spacing for hatching (12 million is about 8 s
         and under 1 GB; a 1200 px photo hatched with the defaults needs
-        about 6 million).
+        about 4 million).
     dot_rounds : int
         Dots times relaxation rounds for stippling (2 million is about 5 s;
         the defaults need at most 160 000).
@@ -432,15 +432,16 @@ def check_style_work(style, options, pixels, pen_px, budget=DEFAULT_BUDGET, user
     >>> check_style_work("hatch", {"spacing": 0.05}, 1200 * 1200, 2.0)
     Traceback (most recent call last):
     ...
-    inkreach.limits.BudgetError: hatch spacing=0.05 would need about 115 million pixel \
-visits, more than the budget of 12 million; use spacing=0.48 or more
+    inkreach.limits.BudgetError: hatch spacing=0.05 would need about 86.4 million pixel \
+visits, more than the budget of 12 million; use spacing=0.36 or more
     """
     if pixels > budget.pixels:
         raise BudgetError(f"the working picture of {_fmt_count(pixels)} pixels is more than "
                           f"the budget of {_fmt_count(budget.pixels)}; use a smaller "
                           f"max_side", "pixels", pixels)
     if style == "hatch":
-        layers = int(options.get("layers") or 4)
+        from .trace._options import OPTIONS
+        layers = int(options.get("layers") or OPTIONS["hatch"]["layers"][0])
         spacing = options.get("spacing")
         gap = float(spacing) if spacing is not None else float(pen_px)
         gap = max(gap, 1e-12)

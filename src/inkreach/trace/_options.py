@@ -104,7 +104,7 @@ OPTIONS = {
                           "ink matches the picture; at least 0.5: closer lines cannot be told apart)",
                     _Number(0.5, 1000.0, none_ok=True)),
         "angle": (45.0, "direction of the first hatch layer in degrees", _Number(-360.0, 360.0)),
-        "layers": (4, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
+        "layers": (3, "most crossing layers for the darkest tones", _Number(1, 8, integer=True)),
         "levels": (32, "how many tone steps are told apart (32 matches the line lattice's "
                        "own steps)", _Number(2, 64, integer=True)),
         "smooth": (None, "blur of the tones before hatching, in pixels (None: 1.5 pen widths)",
@@ -119,8 +119,10 @@ OPTIONS = {
                  _Number(1, 1_000_000, integer=True, none_ok=True)),
         "iterations": (20, "relaxation rounds; more gives evener dots", _Number(0, 500, integer=True)),
         "mode": ("dots", "'dots' fills each dot back and forth, as large as its share of "
-                         "the tone, 'touch' only touches the paper, 'line' joins the dot "
-                         "centres in one path", _Choice("dots", "touch", "line")),
+                         "the tone, and fills dark areas with dense lines that follow the "
+                         "tone (crossed near black); 'touch' only touches the paper at each "
+                         "dot; 'line' joins the dot centres in one path",
+                 _Choice("dots", "touch", "line")),
         "seed": (0, "random seed for the first dot positions", _Number(0, 2**32 - 1, integer=True)),
         "contrast": (1.0, "dot density follows darkness to this power: 1 spreads dots in "
                           "proportion to darkness, lower gives light parts more, smaller dots",

@@ -14,12 +14,14 @@ __all__ = ["hatch", "layer_fraction"]
 # Directions of successive layers relative to the first, in degrees: the
 # second crosses the first at right angles, later ones fill in between.
 _LAYER_OFFSETS = (0.0, 90.0, 45.0, 135.0, 22.5, 112.5, 67.5, 157.5)
-_MAX_FRACTION = 0.4   # at most this much of the paper inked by one layer before
-                      # another crossing layer is added (common practice)
+_MAX_FRACTION = 0.7   # at most this much of the paper inked by one layer before
+                      # another crossing layer is added (our choice, by
+                      # bench/bench_tone.py: fewer layers overlap less, so the
+                      # same tone takes less line and drawing time)
 _MIN_TONE = 0.02      # lighter than this is left as bare paper
 _REACH = 8            # runs join runs up to this many lattice lines on (lighter
                       # tones draw every 2nd, 4th, 8th line of the lattice)
-_HOP = 12.0           # longest pen-down hop between hatch strokes, lattice spacings
+_HOP = 20.0           # longest pen-down hop between hatch strokes, lattice spacings
 
 
 def layer_fraction(coverage, layers):
@@ -56,7 +58,8 @@ def layer_fraction(coverage, layers):
 def _clean(lab, pen):
     """Level map without regions much narrower than a few hatch spacings.
 
-    A median filter over about two of the densest spacings (``2.5 pen``)
+    A median filter over five pen widths (about three and a half of the densest
+    spacings, ``pen / 0.7``)
     removes specks and slivers of odd levels, whose hatching would come out
     as crumbs (an area-and-width filter of the kind morphological opening
     gives, but without leaving holes).
@@ -399,7 +402,7 @@ def _line_fill(tone, pen, angle=45.0, levels=32):
                   "hatch", 0.0, 0.0)
 
 
-def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smooth=None,
+def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=3, levels=32, smooth=None,
           min_length=None):
     """Draw tone with parallel hatching, crossed for darker tones.
 
@@ -423,8 +426,8 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smo
         ``spacing``).
     smooth : float, optional
         Spatial sigma of the edge-preserving (bilateral) smoothing of the
-        tone before hatching; default 1.5 pen widths (most of the densest
-        spacing, 2.5 pens).
+        tone before hatching; default 1.5 pen widths (about the densest
+        spacing, 1.4 pens).
     min_length : float, optional
         Pieces of line shorter than this are not drawn; default four pen
         widths.
@@ -446,10 +449,10 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smo
     ``Y = 1 - a`` (Murray-Davies [1]_).  Lines of width ``w`` every ``s``
     pixels cover ``w / s``; ``k`` crossed layers cover
     ``1 - (1 - w / s)**k``.  Each pixel gets the fewest layers with
-    ``w / s <= 0.4`` and the line density that solves that relation.
+    ``w / s <= 0.7`` and the line density that solves that relation.
 
     Tone comes from line density, not from line position [2]_: every layer
-    is one field of lines on one lattice (spacing ``2.5 w``) and each
+    is one field of lines on one lattice (spacing ``w / 0.7``, about ``1.4 w``) and each
     lattice line is drawn where the wanted density exceeds the line's rank
     (its bit-reversed index, `_line_ranks`).  A lighter tone keeps a subset
     of the lines of a darker one, so lines run on across tone changes
@@ -458,7 +461,7 @@ def hatch(lum, *, pen_px=2.0, spacing=None, angle=45.0, layers=4, levels=32, smo
     are drawn as one; neighbouring lines (up to eight lattice lines on) are
     joined end to end into zig-zags where the turn stays inside the layer's
     region, and the zig-zags of a layer are then joined, nearest ends first,
-    by straight pen-down hops of at most 12 lattice spacings that stay
+    by straight pen-down hops of at most 20 lattice spacings that stay
     inside the same region: three to five times fewer pen lifts on a photo
     for a few per cent more ink.
 
