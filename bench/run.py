@@ -78,7 +78,12 @@ def main(argv=None):
     run(bench_tone.TITLE, bench_tone.section, cfg)
     from bench_motion import section_motion
     run("Motion time against TOPP-RA and the lower bound", section_motion, cfg, results)
-    targets = f"## Targets\n\n{section_targets(results)}\n"
+    try:
+        with open(args.out, encoding="utf-8") as f:
+            previous = f.read()
+    except OSError:
+        previous = ""
+    targets = f"## Targets\n\n{section_targets(results, previous)}\n"
     total = T() - t0
     text = "\n".join(parts) + "\n" + targets + "\n" + "\n".join(body) + \
         f"\nWhole run: {total:.0f} s.\n"
