@@ -123,7 +123,7 @@ def parse_arm(data, source="<arm>"):
         _fail(source, f"unknown key {', '.join(unknown)}; allowed: {', '.join(sorted(_TOP_KEYS))}")
     kind = data.get("kind")
     if kind is None:
-        _fail(source, f"is missing kind; add kind = \"five-bar\" or kind = \"serial\"")
+        _fail(source, "is missing kind; add kind = \"five-bar\" or kind = \"serial\"")
     if kind not in _KINDS:
         _fail(source, f"kind {kind!r} is unknown; use \"five-bar\" or \"serial\"")
     name = data.get("name", os.path.splitext(os.path.basename(str(source)))[0] or "arm")
@@ -205,7 +205,7 @@ def parse_arm(data, source="<arm>"):
     if "calibration" in data:
         cal = data["calibration"]
         _check_keys(source, cal, "calibration", (), ("offset_deg", "scale"))
-        off = _pair(source, "[calibration] offset_deg", cal.get("offset_deg", [0.0, 0.0]))
+        _pair(source, "[calibration] offset_deg", cal.get("offset_deg", [0.0, 0.0]))
         sc = _pair(source, "[calibration] scale", cal.get("scale", [1.0, 1.0]))
         if min(sc) <= 0:
             _fail(source, "[calibration] scale must be positive for both motors; "

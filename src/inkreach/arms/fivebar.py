@@ -5,7 +5,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._base import Arm
-from ._linalg import LIMIT_TOL, circle_intersection, cross2, wrap_into
+from ._linalg import LIMIT_TOL, circle_intersection, wrap_into
 
 __all__ = ["FiveBar"]
 

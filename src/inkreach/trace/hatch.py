@@ -4,7 +4,6 @@ import math
 
 import cv2
 import numpy as np
-from scipy import ndimage
 
 from . import _options
 from ._common import as_luminance, finish

@@ -5,7 +5,7 @@ import numpy as np
 from skimage.morphology import skeletonize
 
 from . import _options
-from ._common import as_luminance, default_min_length, finish, perceptual8
+from ._common import as_luminance, finish, perceptual8
 from .graph import trace_skeleton
 
 __all__ = ["outline", "outline_edges", "edge_thresholds", "noise_sigma"]
