@@ -2,10 +2,15 @@
 
 import numpy as np
 
-from .joint import reorder_joint_space
-from .strokes import order_strokes
+from .joint import pen_up_time, reorder_joint_space
+from .strokes import greedy_order, order_strokes
 
-__all__ = ["route_strokes", "start_posture", "joint_order_budget"]
+__all__ = ["route_strokes", "start_posture", "joint_order_budget", "GAIN_SHARE"]
+
+# The route's kicks stop after a round gains less than this share of the
+# estimated drawing time (our choice: 0.2 % of a 10-minute drawing is 1.2 s,
+# the time of ten pen lifts, below what a user notices).
+GAIN_SHARE = 0.002
 
 
 def joint_order_budget(n_strokes):
@@ -42,12 +47,20 @@ def start_posture(arm, placement, start_deg=None):
     return q
 
 
-def route_strokes(strokes, arm, start_q, joint_order=True):
+def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE):
     """Order and orient strokes (arm mm) for drawing, from a start posture.
 
     The order is built in millimetres (:func:`order_strokes`), then, with
     ``joint_order``, refined by joint-space travel time
     (:func:`reorder_joint_space`) within :func:`joint_order_budget`.
+
+    Both searches are bounded by the value they add in drawing seconds:
+    the drawing time is estimated (from below) by the pen-up time of the
+    nearest-neighbour order (:func:`pen_up_time`, trapezoid moves at the
+    arm's joint limits), and the kicks stop after a round saves less than
+    ``gain_share`` of it (in the millimetre search, the same share of the
+    nearest-neighbour pen-up millimetres). The result is never longer in
+    pen-up millimetres than the nearest-neighbour order.
 
     Parameters
     ----------
@@ -58,6 +71,9 @@ def route_strokes(strokes, arm, start_q, joint_order=True):
         The posture the pen starts from, rad.
     joint_order : bool
         Refine the order by joint-space time.
+    gain_share : float
+        Share of the estimated drawing time below which a round of kicks
+        is not worth its computing time; 0 spends the whole budgets.
 
     Returns
     -------
@@ -71,8 +87,17 @@ def route_strokes(strokes, arm, start_q, joint_order=True):
     .. [2] G. A. Croes, "A method for solving traveling-salesman problems",
        Operations Research 6(6), 1958 (2-opt).
     """
-    route = order_strokes(strokes, start=arm.fk(start_q))
+    start_mm = arm.fk(start_q)
+    nearest = greedy_order(strokes, start=start_mm)
+    if not nearest.strokes:
+        return nearest
+    share = float(gain_share)
+    route = order_strokes(strokes, start=start_mm, min_gain=share * nearest.stats.pen_up_mm)
+    if route.stats.pen_up_mm > nearest.stats.pen_up_mm:
+        route = nearest
     if joint_order:
+        est_s = pen_up_time(nearest.strokes, arm, start_q)
         route = reorder_joint_space(route, arm, start_q=start_q,
-                                    time_budget=joint_order_budget(len(route.strokes)))
+                                    time_budget=joint_order_budget(len(route.strokes)),
+                                    min_gain=share * est_s)
     return route
