@@ -30,22 +30,22 @@ def _kicks(min_gain, n=300):
     return s.kicks, before, s.cost
 
 
-def test_kicks_stop_after_a_round_that_gains_less_than_min_gain():
-    # A gain no round can reach: the search stops after its first round
-    # (50 kicks for 302 nodes: one per ten, at least 50).
+def test_kicks_stop_after_three_rounds_that_gain_less_than_min_gain():
+    # A gain no round can reach: the search stops after three rounds
+    # (151 kicks each for 302 nodes: one per two nodes, at least 100).
     kicks, before, after = _kicks(min_gain=1e9)
-    assert kicks == 50
+    assert 0.98 * 3 * 151 <= kicks <= 3 * 151   # a draw on a fixed edge is skipped
     assert after <= before + 1e-9
 
 
 def test_kicks_keep_going_while_rounds_pay():
     # Without a bound every kick is tried (a few draws that fall on fixed
     # edges are skipped); with a bound of (almost) zero gain only a round
-    # that gains nothing stops it, later than the first round.
+    # three rounds that gain nothing stop it, later than the first three.
     kicks_all, before, after_all = _kicks(min_gain=-np.inf)
     kicks_zero, _, after_zero = _kicks(min_gain=1e-12)
     assert kicks_all > 0.99 * 20 * 300
-    assert 100 <= kicks_zero <= kicks_all
+    assert 3 * 151 < kicks_zero <= kicks_all
     assert after_all < before and after_zero < before
 
 

@@ -501,9 +501,9 @@ class PathSearch:
         Each kick swaps two adjacent short segments (a double bridge whose
         fourth edge is far away), repairs with local search from the six
         touched nodes, and is undone unless the path got shorter. Kicks go
-        in rounds of ``round_size`` (default: one per ten nodes, at least 50); the search
-        stops after a round that shortened the path by less than
-        ``min_gain`` (cost units), since the rounds after it gain less.
+        in rounds of ``round_size`` (default: one per two nodes, at least
+        100); the search stops after three rounds in a row that each
+        shortened the path by less than ``min_gain`` (cost units).
         """
         M, n = self.M, self.n
         if n < 8:
@@ -511,13 +511,16 @@ class PathSearch:
         partner, tour, dist = self.partner, self.tour, self.dist
         w = min(window, M - 2)
         draws = rng.integers(0, 1 << 62, size=(kicks, 3))
-        per_round = max(1, max(50, M // 10) if round_size is None else int(round_size))
-        round_start = self.cost
+        per_round = max(1, max(M, 200) // 2 if round_size is None else int(round_size))
+        round_start, poor = self.cost, 0
         for kick, (p0, r1, r2) in enumerate(draws.tolist()):
             if self.work > work_limit or time.perf_counter() > deadline:
                 break
             if kick and kick % per_round == 0:
-                if round_start - self.cost < min_gain:
+                # A round that gains little may be followed by one that
+                # gains much (kicks are random): stop after three in a row.
+                poor = poor + 1 if round_start - self.cost < min_gain else 0
+                if poor == 3:
                     break
                 round_start = self.cost
             p0 %= M

@@ -109,7 +109,8 @@ def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, s
     seed : int
         Seed of the kicks.
     min_gain : float
-        Seconds: the kicks stop after a round of them saves less than this;
+        Seconds: the kicks stop after three rounds in a row each save less
+        than this;
         0 spends the whole budget.
 
     Returns

@@ -7,8 +7,8 @@ from .strokes import greedy_order, order_strokes
 
 __all__ = ["route_strokes", "start_posture", "joint_order_budget", "GAIN_SHARE"]
 
-# The route's kicks stop after a round gains less than this share of the
-# estimated drawing time (our choice: 0.2 % of a 10-minute drawing is 1.2 s,
+# The route's kicks stop after three rounds each gain less than this share
+# of the estimated drawing time (our choice: 0.2 % of a 10-minute drawing is 1.2 s,
 # the time of ten pen lifts, below what a user notices).
 GAIN_SHARE = 0.002
 
@@ -57,8 +57,8 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     Both searches are bounded by the value they add in drawing seconds:
     the drawing time is estimated (from below) by the pen-up time of the
     nearest-neighbour order (:func:`pen_up_time`, trapezoid moves at the
-    arm's joint limits), and the kicks stop after a round saves less than
-    ``gain_share`` of it (in the millimetre search, the same share of the
+    arm's joint limits), and the kicks stop after three rounds in a row each
+    save less than ``gain_share`` of it (in the millimetre search, the same share of the
     nearest-neighbour pen-up millimetres). The result is never longer in
     pen-up millimetres than the nearest-neighbour order.
 

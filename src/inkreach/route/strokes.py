@@ -345,9 +345,9 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0, min_gain=0.0
     seed : int
         Seed of the kicks.
     min_gain : float
-        The kicks stop after a round of them (one kick per ten stroke ends,
-        at least 50) shortens the pen-up travel by less than this, in the
-        strokes' unit; 0 spends the whole budget.
+        The kicks stop after three rounds in a row (a round is one kick per
+        two stroke ends, at least 100) each shorten the pen-up travel by
+        less than this, in the strokes' unit; 0 spends the whole budget.
 
     Returns
     -------
