@@ -71,3 +71,23 @@ def test_route_is_never_longer_than_nearest_neighbour(n, seed, share):
     r = route_strokes(strokes, arm, q0, joint_order=False, gain_share=share)
     nn = greedy_order(strokes, start=arm.fk(q0))
     assert r.stats.pen_up_mm <= nn.stats.pen_up_mm + 1e-9
+
+
+def test_gain_bounds_are_the_share_of_the_estimated_drawing_time():
+    # Drawing time = pen-up time (trapezoid moves, Craig 2005 section 7.3,
+    # through pen_up_time) + pen-down length at the planner's tip speed.
+    from inkreach.motion import TIP_SPEED
+    from inkreach.route import gain_bounds, pen_up_time
+
+    arm = default_arm()
+    centre = np.array([0.0, 200.0])
+    strokes = [centre + 0.3 * (p - centre) for p in _endpoint_sets(30, 5)]
+    assert np.all(np.isfinite(arm.ik(np.vstack(strokes))))
+    q0 = arm.ik(np.array([0.0, 200.0]))
+    nn = greedy_order(strokes, start=arm.fk(q0))
+    mm, s = gain_bounds(nn, arm, q0, 0.01)
+    est = pen_up_time(nn.strokes, arm, q0) + nn.stats.pen_down_mm / TIP_SPEED
+    assert np.isclose(s, 0.01 * est)
+    move_s = pen_up_time(nn.strokes, arm, q0) - arm.pen.lift_s * (2 * 30 - 1)
+    assert np.isclose(mm, 0.01 * est * nn.stats.pen_up_mm / move_s)
+    assert gain_bounds(nn, arm, q0, 0.0) == (0.0, 0.0)

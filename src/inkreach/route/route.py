@@ -2,10 +2,12 @@
 
 import numpy as np
 
+from ..motion import TIP_SPEED
+
 from .joint import pen_up_time, reorder_joint_space
 from .strokes import greedy_order, order_strokes
 
-__all__ = ["route_strokes", "start_posture", "joint_order_budget", "GAIN_SHARE"]
+__all__ = ["route_strokes", "start_posture", "joint_order_budget", "GAIN_SHARE", "gain_bounds"]
 
 # The route's kicks stop after three rounds each gain less than this share
 # of the estimated drawing time (our choice: 0.2 % of a 10-minute drawing is 1.2 s,
@@ -47,6 +49,36 @@ def start_posture(arm, placement, start_deg=None):
     return q
 
 
+def gain_bounds(nearest, arm, start_q, gain_share=GAIN_SHARE):
+    """Least gain per round of kicks worth searching for, in mm and in seconds.
+
+    ``gain_share`` of the estimated drawing time: the nearest-neighbour
+    route's pen-up time (:func:`pen_up_time`) plus its pen-down length at
+    the planner's tip speed; in mm at that route's pen-up seconds (lifts
+    left out) per pen-up millimetre.
+
+    Parameters
+    ----------
+    nearest : Route
+        The nearest-neighbour route (:func:`greedy_order`) from the start.
+    arm : FiveBar or SerialArm
+    start_q : array_like, shape (2,)
+    gain_share : float
+
+    Returns
+    -------
+    (float, float)
+        Millimetres, seconds.
+    """
+    share = float(gain_share)
+    up_s = pen_up_time(nearest.strokes, arm, start_q)
+    est_s = up_s + nearest.stats.pen_down_mm / TIP_SPEED
+    lifts = arm.pen.lift_s * (2 * len(nearest.strokes) - 1)
+    mm = nearest.stats.pen_up_mm
+    s_per_mm = max(up_s - lifts, 0.0) / mm if mm > 0 else 0.0
+    return (share * est_s / s_per_mm if s_per_mm > 0 else 0.0), share * est_s
+
+
 def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE):
     """Order and orient strokes (arm mm) for drawing, from a start posture.
 
@@ -55,11 +87,12 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     (:func:`reorder_joint_space`) within :func:`joint_order_budget`.
 
     Both searches are bounded by the value they add in drawing seconds:
-    the drawing time is estimated (from below) by the pen-up time of the
-    nearest-neighbour order (:func:`pen_up_time`, trapezoid moves at the
-    arm's joint limits), and the kicks stop after three rounds in a row each
-    save less than ``gain_share`` of it (in the millimetre search, the same share of the
-    nearest-neighbour pen-up millimetres). The result is never longer in
+    the drawing time is estimated by the nearest-neighbour order's pen-up
+    time (:func:`pen_up_time`, trapezoid moves at the arm's joint limits,
+    lifts) plus its pen-down length at the planner's tip speed, and the
+    kicks stop after three rounds in a row each save less than
+    ``gain_share`` of it (in the millimetre search converted to mm at that
+    order's pen-up seconds per millimetre). The result is never longer in
     pen-up millimetres than the nearest-neighbour order.
 
     Parameters
@@ -91,13 +124,12 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     nearest = greedy_order(strokes, start=start_mm)
     if not nearest.strokes:
         return nearest
-    share = float(gain_share)
-    route = order_strokes(strokes, start=start_mm, min_gain=share * nearest.stats.pen_up_mm)
+    min_gain_mm, min_gain_s = gain_bounds(nearest, arm, start_q, gain_share)
+    route = order_strokes(strokes, start=start_mm, min_gain=min_gain_mm)
     if route.stats.pen_up_mm > nearest.stats.pen_up_mm:
         route = nearest
     if joint_order:
-        est_s = pen_up_time(nearest.strokes, arm, start_q)
         route = reorder_joint_space(route, arm, start_q=start_q,
                                     time_budget=joint_order_budget(len(route.strokes)),
-                                    min_gain=share * est_s)
+                                    min_gain=min_gain_s)
     return route
