@@ -153,3 +153,16 @@ def test_min_length_and_simplify():
 
 def test_empty_skeleton_gives_no_strokes():
     assert trace_skeleton(np.zeros((20, 20), bool)) == []
+
+
+def test_distinct_labels_match_numpy_unique_per_row():
+    # Reference: np.unique of each row's positive labels (numpy).
+    from inkreach.trace.graph import _distinct_labels
+
+    near = np.random.default_rng(3).integers(0, 5, (400, 8))
+    cnt, first, second = _distinct_labels(near)
+    for row, c, f, s in zip(near, cnt, first, second):
+        u = np.unique(row[row > 0]) - 1
+        assert c == len(u)
+        assert f == (u[0] if len(u) else -1)
+        assert s == (u[1] if len(u) > 1 else -1)

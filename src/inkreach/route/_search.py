@@ -52,11 +52,13 @@ def default_budget(n_items, per_item=100e-6):
     return float(min(max(per_item * n_items, min(0.3, 1.2e-3 * n_items)), 10.0))
 
 
-def improve_path(xy, partner, order, start, budget, seed, kicks, **options):
+def improve_path(xy, partner, order, start, budget, seed, kicks, min_gain=0.0, **options):
     """Local search, then ``kicks`` kicks, from an initial order within ``budget`` seconds.
 
-    ``options`` go to :class:`PathSearch`. Returns the search (read its
-    ``path()`` and ``cost``) and the cost of ``order`` before it.
+    The kicks stop after a round of them gains less than ``min_gain``
+    (:meth:`PathSearch.kick_search`). ``options`` go to :class:`PathSearch`.
+    Returns the search (read its ``path()`` and ``cost``) and the cost of
+    ``order`` before it.
     """
     work_limit = budget * UNITS_PER_SECOND
     deadline = time.perf_counter() + 4.0 * budget + 1.0
@@ -64,7 +66,7 @@ def improve_path(xy, partner, order, start, budget, seed, kicks, **options):
     before = search.cost
     search.run(work_limit=work_limit, deadline=deadline)
     search.kick_search(np.random.default_rng(seed), kicks=kicks, work_limit=work_limit,
-                       deadline=deadline)
+                       deadline=deadline, min_gain=min_gain)
     return search, before
 
 
@@ -492,12 +494,16 @@ class PathSearch:
         return None
 
     # -- perturbation ------------------------------------------------------
-    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50):
+    def kick_search(self, rng, kicks, work_limit=math.inf, deadline=math.inf, window=50,
+                    min_gain=0.0, round_size=None):
         """Iterated local search: random segment swaps kept when they pay.
 
         Each kick swaps two adjacent short segments (a double bridge whose
         fourth edge is far away), repairs with local search from the six
-        touched nodes, and is undone unless the path got shorter.
+        touched nodes, and is undone unless the path got shorter. Kicks go
+        in rounds of ``round_size`` (default: one per two nodes, at least
+        100); the search stops after three rounds in a row that each
+        shortened the path by less than ``min_gain`` (cost units).
         """
         M, n = self.M, self.n
         if n < 8:
@@ -505,9 +511,18 @@ class PathSearch:
         partner, tour, dist = self.partner, self.tour, self.dist
         w = min(window, M - 2)
         draws = rng.integers(0, 1 << 62, size=(kicks, 3))
-        for p0, r1, r2 in draws.tolist():
+        per_round = max(1, max(M, 200) // 2 if round_size is None else int(round_size))
+        round_start, poor = self.cost, 0
+        for kick, (p0, r1, r2) in enumerate(draws.tolist()):
             if self.work > work_limit or time.perf_counter() > deadline:
                 break
+            if kick and kick % per_round == 0:
+                # A round that gains little may be followed by one that
+                # gains much (kicks are random): stop after three in a row.
+                poor = poor + 1 if round_start - self.cost < min_gain else 0
+                if poor == 3:
+                    break
+                round_start = self.cost
             p0 %= M
             o1 = 1 + r1 % (w - 2)
             o2 = o1 + 1 + r2 % (w - 1 - o1)

@@ -86,7 +86,8 @@ def pen_up_time(strokes, arm, start_q=None):
     return total
 
 
-def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, seed=0):
+def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, seed=0,
+                        min_gain=0.0):
     """Improve a drawing order under joint-space pen-up time instead of mm.
 
     The stroke ends are mapped to joint angles once (vectorised ``ik``);
@@ -107,6 +108,10 @@ def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, s
         Seconds of improvement, as in :func:`order_strokes`.
     seed : int
         Seed of the kicks.
+    min_gain : float
+        Seconds: the kicks stop after three rounds in a row each save less
+        than this;
+        0 spends the whole budget.
 
     Returns
     -------
@@ -145,7 +150,7 @@ def reorder_joint_space(route_or_strokes, arm, start_q=None, time_budget=None, s
     seq = np.arange(len(q))
     budget = default_budget(n) if time_budget is None else float(time_budget)
     search, before = improve_path(q, items.partner, seq, start, budget, seed, kicks=30 * n,
-                                  kind="joint", vmax=v, amax=a)
+                                  min_gain=float(min_gain), kind="joint", vmax=v, amax=a)
     if not search.cost < before - 1e-9:
         return base
     r = items.route(search.path(), start_mm)

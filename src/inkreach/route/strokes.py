@@ -311,7 +311,7 @@ def _empty():
     return Route([], z, z.astype(bool), z, travel_stats([]))
 
 
-def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
+def order_strokes(strokes, start=None, *, time_budget=None, seed=0, min_gain=0.0):
     """Order and orient strokes for the least pen-up travel.
 
     Each stroke may be drawn either way; a closed stroke (first point equal
@@ -344,6 +344,10 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
         the budget stops very slow machines.
     seed : int
         Seed of the kicks.
+    min_gain : float
+        The kicks stop after three rounds in a row (a round is one kick per
+        two stroke ends, at least 100) each shorten the pen-up travel by
+        less than this, in the strokes' unit; 0 spends the whole budget.
 
     Returns
     -------
@@ -398,7 +402,8 @@ def order_strokes(strokes, start=None, *, time_budget=None, seed=0):
     if has_loops:
         _entry_rounds(items, search, start, work_limit, deadline)
     rng = np.random.default_rng(seed)
-    search.kick_search(rng, kicks=_KICKS_PER_ITEM * n, work_limit=work_limit, deadline=deadline)
+    search.kick_search(rng, kicks=_KICKS_PER_ITEM * n, work_limit=work_limit, deadline=deadline,
+                       min_gain=float(min_gain))
     if has_loops:
         _entry_rounds(items, search, start, 1.1 * work_limit, deadline)
     _reorient(items, search, start, 1.1 * work_limit, deadline, final=True)

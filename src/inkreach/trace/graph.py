@@ -315,8 +315,12 @@ def _skeleton_graph(skel):
     head = order[bounds[:-1]]
     tail = order[bounds[1:] - 1]
     piece = olab[bounds[:-1]]
-    near_head = junctions_near(pr[head], pc[head])
-    near_tail = junctions_near(pr[tail], pc[tail])
+    # The distinct junctions beside each piece's ends, smallest label first
+    # (what np.unique per piece gives): how many, and the first two.
+    h_cnt, h_1st, h_2nd = _distinct_labels(junctions_near(pr[head], pc[head]))
+    t_cnt, t_1st, _ = _distinct_labels(junctions_near(pr[tail], pc[tail]))
+    h_cnt, h_1st, h_2nd = h_cnt.tolist(), h_1st.tolist(), h_2nd.tolist()
+    t_cnt, t_1st = t_cnt.tolist(), t_1st.tolist()
 
     next_node = n_j
     extra_xy = []
@@ -334,14 +338,11 @@ def _skeleton_graph(skel):
             edge_v.append(v)
             paths.append(np.concatenate([pts, pts[:1]]))
             continue
-        jh = np.unique(near_head[k][near_head[k] > 0]) - 1
-        jt = np.unique(near_tail[k][near_tail[k] > 0]) - 1
         if len(pix) == 1:
-            js = list(jh)
-            if len(js) == 0:
+            if h_cnt[k] == 0:
                 continue  # an isolated pixel: no edge
-            a = js[0]
-            b = js[1] if len(js) > 1 else None
+            a = h_1st[k]
+            b = h_2nd[k] if h_cnt[k] > 1 else None
             u_pts = [jxy[a]]
             if b is None:
                 u, v = a, next_node
@@ -353,15 +354,15 @@ def _skeleton_graph(skel):
                 path = np.concatenate([u_pts, pts, [jxy[b]]])
         else:
             parts = [pts]
-            if len(jh):
-                u = jh[0]
+            if h_cnt[k]:
+                u = h_1st[k]
                 parts.insert(0, jxy[u][None])
             else:
                 u = next_node
                 next_node += 1
                 extra_xy.append(pts[0])
-            if len(jt):
-                v = jt[0]
+            if t_cnt[k]:
+                v = t_1st[k]
                 parts.append(jxy[v][None])
             else:
                 v = next_node
@@ -375,6 +376,19 @@ def _skeleton_graph(skel):
         node_xy.append(np.asarray(extra_xy, dtype=float).reshape(-1, 2))
     return (np.concatenate(node_xy), np.asarray(edge_u, dtype=np.int64),
             np.asarray(edge_v, dtype=np.int64), paths)
+
+
+def _distinct_labels(near):
+    """Per row of labels (0 = none): count of distinct labels, the smallest
+    two minus one (node numbers; -1 where missing)."""
+    srt = np.sort(near, axis=1)
+    new = srt > 0
+    new[:, 1:] &= srt[:, 1:] != srt[:, :-1]
+    cnt = new.sum(axis=1)
+    rank = np.cumsum(new, axis=1)
+    first = np.where(new & (rank == 1), srt, 0).max(axis=1) - 1
+    second = np.where(new & (rank == 2), srt, 0).max(axis=1) - 1
+    return cnt, first, second
 
 
 def _end_dirs(paths):
