@@ -59,8 +59,14 @@ def test_round_trip_fk_of_the_stream_reproduces_the_strokes(name):
     arm, box = _arm_and_box(name)
     strokes = _drawing(box)
     s = plan_motion(strokes, arm)
-    x = arm.fk(s.q)
-    np.testing.assert_allclose(x, s.xy, atol=1e-9)
+    # The pen positions through the saved-plan check's own forward kinematics,
+    # written apart from arms/ from the documented conventions: the stream's xy
+    # and the arm's FK must both agree with it.
+    from inkreach.check._kinematics import fk as independent_fk
+    from inkreach.check.plancheck import _arm_dict
+    x = independent_fk(_arm_dict(arm), s.q)
+    np.testing.assert_allclose(arm.fk(s.q), x, atol=1e-9)
+    np.testing.assert_allclose(s.xy, x, atol=1e-9)
     for i, stroke in enumerate(strokes):
         rows = np.flatnonzero((s.pen == 1) & (s.stroke == i))
         assert rows.size
