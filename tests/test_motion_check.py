@@ -424,3 +424,27 @@ def test_a_straight_column_of_the_wrong_length_is_refused():
         check_stream(_up_stream(q, np.zeros(n - 1, bool)), ARM)
     assert str(err.value) == (f"the stream's straight-move column has shape ({n - 1},), not "
                               f"({n},); rebuild it with plan_motion")
+
+
+def test_vertex_miss_is_exact_between_rows_far_apart():
+    # Rows 2 mm apart (pieces of up to 2 * chord_tol are cut from each half
+    # step); a vertex 0.04 mm off the base line, near the middle of a step,
+    # has its miss equal to the point-to-segment distance (elementary
+    # geometry) to the polyline of rows and joint-space midpoints.
+    c = ARM.fk(ARM.home())
+    xs = np.arange(-6.0, 6.0 + 1e-9, 2.0)
+    q = ARM.ik(c + np.column_stack([xs, np.zeros_like(xs)]))
+    n = len(q)
+    s = JointStream(t=np.arange(n) * 0.02, q=q, pen=np.ones(n, np.int8), xy=ARM.fk(q),
+                    period=0.02, stroke=np.zeros(n, int))
+    v = c + np.array([0.7, 0.04])
+    stroke = np.array([c + [-6.0, 0.0], v, c + [6.0, 0.0]])
+    x = ARM.fk(q)
+    xm = ARM.fk(0.5 * (q[:-1] + q[1:]))
+    path = np.empty((2 * n - 1, 2))
+    path[0::2], path[1::2] = x, xm
+    a, b = path[:-1], path[1:]
+    u = np.clip(np.einsum("ij,ij->i", v - a, b - a) / np.einsum("ij,ij->i", b - a, b - a), 0, 1)
+    want = float(np.hypot(*(v - (a + u[:, None] * (b - a))).T).min())
+    r = check_stream(s, ARM, strokes=[stroke], chord_tol=0.05)
+    assert r.max_vertex_miss_mm == pytest.approx(want, abs=1e-9)
