@@ -360,3 +360,91 @@ def test_stroke_vertex_cut_off_by_the_rows_is_caught():
 def test_good_stream_reports_its_vertex_miss():
     r = check_stream(GOOD, ARM, strokes=LINE)
     assert 0.0 <= r.max_vertex_miss_mm <= 0.05
+
+
+# --- cases found by mutation testing after the straight-move tip-speed rule and
+# the vertex-miss rule joined the check (tests/MUTATION.md) ----------------------
+
+def _straight_run(step, n=6):
+    """Pen-up rows along +x from the home pen position, ``step`` mm apart (row 0 at home)."""
+    c = ARM.fk(ARM.home())
+    q = ARM.ik(c + np.column_stack([step * np.arange(n), np.zeros(n)]))
+    return q
+
+
+def _up_stream(q, straight):
+    n = len(q)
+    return JointStream(t=np.arange(n) * 0.02, q=q, pen=np.zeros(n, np.int8), xy=ARM.fk(q),
+                       period=0.02, stroke=np.full(n, -1), straight=straight)
+
+
+def test_straight_pen_up_steps_are_held_to_the_tip_limit():
+    # Speed of a step = |x[k] - x[k-1]| / T (finite differences, Craig 2005,
+    # ch. 7); the rows are placed 1 mm apart along x, so every step is 50 mm/s.
+    q = _straight_run(1.0)
+    n = len(q)
+    sp = np.hypot(*np.diff(ARM.fk(q), axis=0).T) / 0.02
+    np.testing.assert_allclose(sp, 50.0, rtol=1e-9)
+    every = np.ones(n, bool)
+    # exactly at the limit passes (the rule is "must not exceed")
+    check_stream(_up_stream(q, every), ARM, tip_speed=float(sp.max()))
+    # without a tip limit nothing is checked, with no straight rows neither
+    check_stream(_up_stream(q, every), ARM)
+    check_stream(_up_stream(q, np.zeros(n, bool)), ARM, tip_speed=40.0)
+    # row k marks the step from row k - 1: row 0 has no step before it
+    only0 = np.zeros(n, bool)
+    only0[0] = True
+    check_stream(_up_stream(q, only0), ARM, tip_speed=40.0)
+    # one marked step, the one into row k, named at row k with its own speed
+    for k in (1, 3, n - 1):
+        one = np.zeros(n, bool)
+        one[k] = True
+        with pytest.raises(InkreachError) as err:
+            check_stream(_up_stream(q, one), ARM, tip_speed=40.0)
+        assert str(err.value) == (f"row {k} (t = {k * 0.02:.2f} s): pen speed {sp[k - 1]:.2f} "
+                                  "mm/s on a straight pen-up move exceeds the tip limit 40 mm/s; "
+                                  "lower tip_speed and plan again"), str(err.value)
+
+
+def test_straight_steps_of_different_lengths_name_the_first_too_fast():
+    # steps of 0.5, 0.5, 1.2, 0.5, 2.0 mm (25, 25, 60, 25, 100 mm/s at T = 20 ms);
+    # against 50 mm/s the first too fast is the step into row 3
+    c = ARM.fk(ARM.home())
+    xs = np.cumsum([0.0, 0.5, 0.5, 1.2, 0.5, 2.0])
+    q = ARM.ik(c + np.column_stack([xs, np.zeros_like(xs)]))
+    with pytest.raises(InkreachError, match=r"^row 3 \(t = 0\.06 s\): pen speed 60\.00 mm/s on a "
+                                            r"straight pen-up move"):
+        check_stream(_up_stream(q, np.ones(len(q), bool)), ARM, tip_speed=50.0)
+
+
+def test_a_straight_column_of_the_wrong_length_is_refused():
+    q = _straight_run(0.5)
+    n = len(q)
+    with pytest.raises(InkreachError) as err:
+        check_stream(_up_stream(q, np.zeros(n - 1, bool)), ARM)
+    assert str(err.value) == (f"the stream's straight-move column has shape ({n - 1},), not "
+                              f"({n},); rebuild it with plan_motion")
+
+
+def test_vertex_miss_is_exact_between_rows_far_apart():
+    # Rows 2 mm apart (pieces of up to 2 * chord_tol are cut from each half
+    # step); a vertex 0.04 mm off the base line, near the middle of a step,
+    # has its miss equal to the point-to-segment distance (elementary
+    # geometry) to the polyline of rows and joint-space midpoints.
+    c = ARM.fk(ARM.home())
+    xs = np.arange(-6.0, 6.0 + 1e-9, 2.0)
+    q = ARM.ik(c + np.column_stack([xs, np.zeros_like(xs)]))
+    n = len(q)
+    s = JointStream(t=np.arange(n) * 0.02, q=q, pen=np.ones(n, np.int8), xy=ARM.fk(q),
+                    period=0.02, stroke=np.zeros(n, int))
+    v = c + np.array([0.7, 0.04])
+    stroke = np.array([c + [-6.0, 0.0], v, c + [6.0, 0.0]])
+    x = ARM.fk(q)
+    xm = ARM.fk(0.5 * (q[:-1] + q[1:]))
+    path = np.empty((2 * n - 1, 2))
+    path[0::2], path[1::2] = x, xm
+    a, b = path[:-1], path[1:]
+    u = np.clip(np.einsum("ij,ij->i", v - a, b - a) / np.einsum("ij,ij->i", b - a, b - a), 0, 1)
+    want = float(np.hypot(*(v - (a + u[:, None] * (b - a))).T).min())
+    r = check_stream(s, ARM, strokes=[stroke], chord_tol=0.05)
+    assert r.max_vertex_miss_mm == pytest.approx(want, abs=1e-9)
