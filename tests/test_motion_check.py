@@ -448,3 +448,51 @@ def test_vertex_miss_is_exact_between_rows_far_apart():
     want = float(np.hypot(*(v - (a + u[:, None] * (b - a))).T).min())
     r = check_stream(s, ARM, strokes=[stroke], chord_tol=0.05)
     assert r.max_vertex_miss_mm == pytest.approx(want, abs=1e-9)
+
+
+def _distance_to_polyline(p, poly):
+    """Exact distance of points to a polyline (elementary geometry: the
+    nearest point of each segment is the projection clamped to its ends)."""
+    a, b = poly[:-1][None], poly[1:][None]
+    d = b - a
+    t = np.clip(np.einsum("nki,nki->nk", p[:, None] - a, d) / np.einsum("nki,nki->nk", d, d),
+                0.0, 1.0)
+    return np.hypot(*(p[:, None] - (a + t[..., None] * d)).transpose(2, 0, 1)).min(axis=1)
+
+
+def test_vertex_misses_equal_the_exact_distance_to_the_drawn_path_through_its_midpoints():
+    # Cases found by mutation testing of the vertex rule: the drawn path of a
+    # stroke runs through its rows and the joint-space midpoints between them
+    # in order, cut into short pieces; two strokes never join. Hand-made rows
+    # (no kinematics): stroke 0 rows (0, 0) and (10, 0) with their midpoint at
+    # (5, 3), then rows (10.19, 0) and (10.38, 0) without a midpoint between
+    # them (not a pair); stroke 1 two rows 8 mm apart with a midpoint on their
+    # chord. Every vertex within chord_tol of its own stroke's path must read
+    # the exact distance (reference: point-to-polyline distance above); one
+    # farther must read more than chord_tol.
+    from inkreach.motion.check import _vertex_misses
+    tol = 0.05
+    x = np.array([[0.0, 0.0], [10.0, 0.0], [10.19, 0.0], [10.38, 0.0],
+                  [0.0, 20.0], [8.0, 20.0]])
+    lab = np.array([0, 0, 0, 0, 1, 1])
+    kd = np.arange(6)
+    pair = np.array([0, 4])                       # rows 0-1 and 4-5 have midpoints
+    xm = np.array([[5.0, 3.0], [4.0, 20.0]])
+    path0 = np.array([[0.0, 0.0], [5.0, 3.0], [10.0, 0.0], [10.19, 0.0], [10.38, 0.0]])
+    path1 = np.array([[0.0, 20.0], [4.0, 20.0], [8.0, 20.0]])
+    rng = np.random.default_rng(7)
+
+    def near(path, n):
+        seg = rng.integers(0, len(path) - 1, n)
+        u = rng.uniform(-0.02, 1.02, n)[:, None]
+        p = path[seg] + u * (path[seg + 1] - path[seg])
+        return p + rng.uniform(-0.08, 0.08, (n, 2))
+
+    s0 = np.concatenate([path0, near(path0, 400), [[10.45, 0.0], [10.0, 0.04], [5.0, 3.04]]])
+    s1 = np.concatenate([path1, near(path1, 200), [[4.0, 20.03], [8.06, 20.0]]])
+    got = _vertex_misses(x, xm, kd, lab, pair, [s0, s1], tol)
+    want = np.concatenate([_distance_to_polyline(s0, path0), _distance_to_polyline(s1, path1)])
+    close = want <= tol
+    assert close.sum() > 200 and (~close).sum() > 50           # both kinds are tested
+    np.testing.assert_allclose(got[close], want[close], atol=1e-9)
+    assert np.all(got[~close] > tol)
