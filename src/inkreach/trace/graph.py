@@ -24,7 +24,6 @@ __all__ = ["trace_skeleton", "trail_decomposition"]
 
 _EIGHT = np.ones((3, 3), dtype=bool)
 _TANGENT_PX = 6  # how far along an edge its end direction is measured
-_WIDE_COS = 0.5  # cos 60 deg: branches parting wider than this need no junction repair
 
 
 # ---------------------------------------------------------------- trails ---
@@ -532,6 +531,7 @@ def _reconnect(cluster, ends, eu, ev, paths, node_xy, depth, lone, cuts, junctio
     centres = node_xy[cluster]
     radius = _depth_at(depth, centres)
     span = max(8.0, 6.0 * lone)   # pixels of each arm that give its course
+    reach = int(4 * span)         # the farthest a branch is cut back
     oriented, caps, at = [], [], []
     for a in ends:
         p = paths[a >> 1] if a % 2 == 0 else paths[a >> 1][::-1]
@@ -539,7 +539,8 @@ def _reconnect(cluster, ends, eu, ev, paths, node_xy, depth, lone, cuts, junctio
         far = ev[a >> 1] if a % 2 == 0 else eu[a >> 1]
         # Leave the far half to a junction there that is still to be repaired.
         far_open = far < len(junction) and junction[far] and (a ^ 1) not in cuts
-        caps.append(max(0, (len(p) - 1) // 2 - 1) if far_open else max(0, len(p) - 3))
+        cap = max(0, (len(p) - 1) // 2 - 1) if far_open else max(0, len(p) - 3)
+        caps.append(min(cap, reach))
         oriented.append(p)
         at.append(int(np.flatnonzero(cluster == node)[0]))
     at, caps = np.asarray(at), np.asarray(caps)
@@ -591,8 +592,8 @@ def _reconnect(cluster, ends, eu, ev, paths, node_xy, depth, lone, cuts, junctio
 def _repair_junctions(node_xy, eu, ev, paths, depth, max_span):
     """Replace the skeleton where lines merge by curves joining the lone lines.
 
-    Around a junction (or a cluster of junctions joined by edges shorter than
-    ``max_span``) the medial axis of merged strokes is distorted [1]_: it runs
+    Around a cluster of junctions (joined by edges at most ``max_span``
+    long) the medial axis of merged strokes is distorted [1]_: it runs
     between the strokes.  The branches are cut back to where the ink depth
     (distance to the paper) is a lone line's again, and the cut ends are
     paired, the smallest turn first, and joined by a cubic fitted to both
@@ -602,11 +603,10 @@ def _repair_junctions(node_xy, eu, ev, paths, depth, max_span):
     the ink and every skeleton pixel it removes lies within the larger of
     its ink depth and a lone line's (plus half a pixel) of what is kept;
     otherwise the skeleton stays as it was (a cluster is then tried junction
-    by junction).  Junction clusters: junctions joined by an edge at most
-    ``max_span`` long that is short next to their ink depth, runs through ink
-    deeper than a lone line's, or has the branches at both its ends fork away
-    from it.  A lone junction whose branches all part at more than 60 degrees
-    is left alone: its skeleton bends only within its own disc.
+    by junction if it is a pair).  Junction clusters: junctions joined by an
+    edge at most ``max_span`` long that is short next to their ink depth,
+    runs through ink deeper than a lone line's, or has the branches at both
+    its ends fork away from it.  A lone junction is left alone.
 
     Returns ``(node_xy, edge_u, edge_v, paths)`` as `_skeleton_graph` does.
 
@@ -688,7 +688,7 @@ def _repair_junctions(node_xy, eu, ev, paths, depth, max_span):
         for a, i in zip(ends, cut):
             p = paths[a >> 1] if a % 2 == 0 else paths[a >> 1][::-1]
             removed.append(p[:i])
-            kept.append(p[i:])
+            kept.append(p[i:i + reach])
         removed = np.concatenate(removed) if removed else np.zeros((0, 2))
         if len(removed):
             gap = cKDTree(np.concatenate(kept)).query(removed)[0]
@@ -730,21 +730,17 @@ def _repair_junctions(node_xy, eu, ev, paths, depth, max_span):
             extra.append((prev, v, pts[start:]))
         return True
 
+    reach = int(8 * max(8.0, 6.0 * lone))   # removed pixels lie this near the tips
     jn = np.flatnonzero(junction)
     order = np.argsort(comp[jn], kind="stable")
     jn = jn[order]
     bounds = np.flatnonzero(np.diff(comp[jn])) + 1
     for cluster in np.split(jn, bounds):
-        if len(cluster) == 1:
-            # A lone junction whose branches all part at more than 60 degrees
-            # is left as it is: its skeleton bends only within its own disc.
-            u = raw[ends_at[cluster[0]]]
-            c = u @ u.T
-            np.fill_diagonal(c, -1.0)
-            if c.max() < _WIDE_COS:
-                continue
-        # A cluster whose repair does not hold is tried junction by junction.
-        if not attempt(cluster) and len(cluster) > 1:
+        # A lone junction is left as it is: where lines cross at a shallow
+        # angle or run side by side the skeleton has a pair of junctions or
+        # more.  A pair whose joint repair does not hold is tried one by one;
+        # larger clusters that fail (texture, hatching) stay as they are.
+        if len(cluster) >= 2 and not attempt(cluster) and len(cluster) == 2:
             for v in cluster:
                 attempt(np.array([v]))
     keep = ~drop
