@@ -88,9 +88,38 @@ def test_centre_lines_of_3px_lines_are_found_and_no_stroke_strays_beyond_4px():
     assert stray.max() <= 4.0
 
 
-@pytest.mark.xfail(strict=True, reason="99th percentile of stray is 1.08 px, not yet 1.0 px: "
-                                       "where two curves pass within about 3 px their ink "
-                                       "merges and the skeleton runs between them")
 def test_centre_lines_of_3px_lines_stray_at_most_1px_at_the_99th_percentile():
     _, stray = _figures()
     assert np.percentile(stray, 99) <= 1.0
+
+
+@pytest.mark.parametrize("deg", [10.0, 15.0, 20.0])
+def test_a_shallow_crossing_gives_two_strokes_each_on_one_line(deg):
+    # Two 3-px lines crossing at a shallow angle merge over tens of pixels; the
+    # skeleton there runs down the middle between them.  Each of the two strokes
+    # should follow one line straight through the crossing.  Distances by scipy's
+    # cKDTree.  Bound: 1 px, a third of the line width (this project's choice,
+    # the figure the 99th percentile above is held to).
+    k = np.tan(np.radians(deg))
+    lines = [np.array([[20.0, 120], [220, 120]]),
+             np.array([[20.0, 120 - 100 * k], [220, 120 + 100 * k]])]
+    strokes = centerline(_draw(lines))
+    assert len(strokes) == 2
+    trees = [cKDTree(_dense(p)) for p in lines]
+    owner = []
+    for s in strokes:
+        far = [t.query(_dense(s))[0].max() for t in trees]
+        assert min(far) <= 1.0
+        owner.append(int(np.argmin(far)))
+    assert sorted(owner) == [0, 1]
+
+
+def test_a_short_rung_between_two_lines_is_kept():
+    # An H: the junction repair may not take the rung for a merged zone (its
+    # pixels lie far from the two uprights).  Recall within 1.5 px as above.
+    polys = [np.array([[60.0, 40], [60, 200]]), np.array([[75.0, 40], [75, 200]]),
+             np.array([[60.0, 120], [75, 120]])]
+    strokes = centerline(_draw(polys))
+    pts = np.concatenate([_dense(s) for s in strokes])
+    rung = _dense(polys[2])[10:-10]          # away from the uprights' ink
+    assert (cKDTree(pts).query(rung)[0] <= 1.5).all()
