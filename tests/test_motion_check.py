@@ -496,3 +496,176 @@ def test_vertex_misses_equal_the_exact_distance_to_the_drawn_path_through_its_mi
     assert close.sum() > 200 and (~close).sum() > 50           # both kinds are tested
     np.testing.assert_allclose(got[close], want[close], atol=1e-9)
     assert np.all(got[~close] > tol)
+
+
+# --- whole lines and report fields, from a full mutation run of check_stream
+# (tests/MUTATION.md): a ``match=`` on part of a line lets a garbled line pass --
+
+def _line(stream, **kw):
+    with pytest.raises(InkreachError) as err:
+        check_stream(stream, ARM, **kw)
+    return str(err.value)
+
+
+def test_every_refusal_is_its_whole_line():
+    empty = JointStream(t=np.zeros(0), q=np.zeros((0, 2)), pen=np.zeros(0, np.int8),
+                        xy=np.zeros((0, 2)), period=0.02)
+    assert _line(empty) == "the stream has no rows; plan the motion again"
+    # only the angles are short: every column must agree, not just some
+    short_q = JointStream(t=GOOD.t, q=GOOD.q[:-1], pen=GOOD.pen, xy=GOOD.xy, period=0.02)
+    n = len(GOOD.t)
+    assert _line(short_q) == (f"the stream's columns disagree in length (t {n}, q ({n - 1}, 2), "
+                              f"pen ({n},), xy ({n}, 2)); rebuild it with plan_motion")
+    zero = JointStream(t=np.zeros(3), q=_rest((120.0, 60.0)).q, pen=np.zeros(3, np.int8),
+                       xy=_rest((120.0, 60.0)).xy, period=0.0)
+    assert _line(zero) == "the stream's period is 0.0; it must be greater than zero"
+    t = GOOD.t.copy()
+    t[3] += 0.001
+    assert _line(_with(GOOD, t=t)) == ("row 3 (t = 0.06 s): time 0.061000 s is off the fixed "
+                                       "period 0.02 s; the rows must be evenly spaced from t = 0")
+    assert _line(_rest((120.0, -31.0))) == (
+        "row 0 (t = 0.00 s): theta2 = -31.00 deg is outside the limits [-30, 150] deg; "
+        "keep the drawing inside the usable region")
+    xy = GOOD.xy.copy()
+    xy[2] += [0.01, 0.02]
+    x = ARM.fk(GOOD.q[2:3])[0]
+    assert _line(_with(GOOD, xy=xy)) == (
+        f"row 2 (t = 0.04 s): x, y = ({xy[2, 0]:.4f}, {xy[2, 1]:.4f}) mm but the angles put "
+        f"the pen at ({x[0]:.4f}, {x[1]:.4f}) mm; rebuild xy from the angles")
+    q = np.deg2rad([[120.0, 60.0], [124.0, 60.0]])
+    s = JointStream(t=np.arange(2) * 0.02, q=q, pen=np.zeros(2, np.int8), xy=ARM.fk(q),
+                    period=0.02)
+    assert _line(s) == ("row 1 (t = 0.02 s): theta1 speed 200.0 deg/s exceeds the limit "
+                        "180 deg/s; lower tip_speed or margin and plan again")
+
+
+def test_the_acceleration_line_is_whole():
+    # 1 deg then 2 deg steps: a second difference of 1 deg in 20 ms, 2500 deg/s^2
+    q = np.deg2rad([[120.0, 60.0], [121.0, 60.0], [123.0, 60.0]])
+    s = JointStream(t=np.arange(3) * 0.02, q=q, pen=np.zeros(3, np.int8), xy=ARM.fk(q),
+                    period=0.02)
+    # named at the middle row of the three (the second difference centred on it)
+    assert _line(s) == ("row 1 (t = 0.02 s): theta1 acceleration 2500.0 deg/s^2 exceeds the "
+                        "limit 1500 deg/s^2; lower margin and plan again")
+
+
+def test_speed_and_acceleration_exactly_at_their_limits_pass():
+    # Steps of exactly max_speed * T (the finite-difference speed, Craig 2005,
+    # ch. 7): a stream at the limit is allowed, one a part in 10^6 over is not.
+    vmax, amax, T = ARM.limits.max_speed, ARM.limits.max_accel, 0.02
+    n = 8
+    q = np.tile(np.deg2rad([120.0, 60.0]), (n, 1))
+    q[:, 0] -= 0.3
+    q[:, 0] += vmax * T * np.arange(n)
+    s = JointStream(t=np.arange(n) * T, q=q, pen=np.zeros(n, np.int8), xy=ARM.fk(q), period=T)
+    r = check_stream(s, ARM)
+    assert r.max_speed_deg_s[0] == pytest.approx(np.rad2deg(vmax), rel=1e-12)
+    q2 = q.copy()
+    q2[:, 0] = q[0, 0] + vmax * (1 + 1e-6) * T * np.arange(n)
+    with pytest.raises(InkreachError, match="speed"):
+        check_stream(JointStream(t=s.t, q=q2, pen=s.pen, xy=ARM.fk(q2), period=T), ARM)
+    # constant acceleration exactly amax from rest (q = a t^2 / 2 at the rows;
+    # five rows keep the speed under its limit)
+    n = 5
+    k = np.arange(n)
+    qa = np.tile(np.deg2rad([120.0, 60.0]), (n, 1))
+    qa[:, 0] += 0.5 * amax * (k * T) ** 2
+    ra = check_stream(JointStream(t=k * T, q=qa, pen=np.zeros(n, np.int8), xy=ARM.fk(qa),
+                                  period=T), ARM)
+    assert ra.max_accel_deg_s2[0] == pytest.approx(np.rad2deg(amax), rel=1e-9)
+    assert ra.period == T and ra.rows == n and ra.duration == pytest.approx((n - 1) * T)
+
+
+def test_without_strokes_the_deviation_and_vertex_miss_are_not_measured():
+    r = check_stream(GOOD, ARM)
+    assert np.isnan(r.max_deviation_mm) and np.isnan(r.max_vertex_miss_mm)
+
+
+def test_a_two_row_pen_down_stream_is_held_to_the_tip_limit():
+    # Two pen-down rows of one stroke 1 mm apart in 20 ms: 50 mm/s of pen
+    # speed, above a 40 mm/s limit.
+    c = ARM.fk(ARM.home())
+    pts = c + np.array([[0.0, 0.0], [1.0, 0.0]])
+    q = ARM.ik(pts)
+    s = JointStream(t=np.arange(2) * 0.02, q=q, pen=np.ones(2, np.int8), xy=ARM.fk(q),
+                    period=0.02, stroke=np.zeros(2, int))
+    assert check_stream(s, ARM, tip_speed=60.0).max_tip_speed_mm_s == pytest.approx(50.0,
+                                                                                    rel=1e-9)
+    with pytest.raises(InkreachError, match="pen speed 50.00 mm/s exceeds the tip"):
+        check_stream(s, ARM, tip_speed=40.0)
+
+
+def test_each_strokes_midpoints_are_checked_on_their_own_stroke():
+    # Stroke 1's rows sit on its stroke but their joint-space midpoint does not
+    # (rows 40 mm apart): refused as the pen between two rows, on stroke 1. A
+    # 1 s period keeps the speeds and accelerations inside their limits.
+    c = ARM.fk(ARM.home())
+    s0 = c + np.array([[-10.0, -20.0], [-10.0, -19.0]])
+    s1 = c + np.array([[-20.0, 10.0], [20.0, 10.0]])
+    q = ARM.ik(np.concatenate([s0, s0[-1:], s1[:1], s1]))
+    s = JointStream(t=np.arange(6) * 1.0, q=q, pen=np.array([1, 1, 0, 0, 1, 1], np.int8),
+                    xy=ARM.fk(q), period=1.0, stroke=np.array([0, 0, -1, -1, 1, 1]))
+    line = _line(s, strokes=[s0, s1])
+    assert line.startswith("row 4 (t = 4.00 s): the pen between this row and the next is "), line
+    assert "mm off stroke 1, more than chord_tol 0.05 mm; plan the motion again" in line
+
+
+def test_strokes_drawn_back_to_back_without_a_lift_are_refused():
+    # Two strokes whose rows follow each other with the pen down: the move
+    # between them would draw a line that belongs to neither.
+    c = ARM.fk(ARM.home())
+    s0 = c + np.array([[-10.0, -20.0], [-10.0, -19.9]])
+    s1 = c + np.array([[-10.0, -19.8], [-10.0, -19.7]])
+    q = ARM.ik(np.concatenate([s0, s1]))
+    s = JointStream(t=np.arange(4) * 1.0, q=q, pen=np.ones(4, np.int8), xy=ARM.fk(q),
+                    period=1.0, stroke=np.array([0, 0, 1, 1]))
+    assert _line(s, strokes=[s0, s1]) == (
+        "row 2 (t = 2.00 s): stroke 1 follows stroke 0 with the pen down; the pen must lift "
+        "between strokes; plan the motion again")
+
+
+def test_a_short_xy_column_alone_is_refused():
+    n = len(GOOD.t)
+    s = JointStream(t=GOOD.t, q=GOOD.q, pen=GOOD.pen, xy=GOOD.xy[:-1], period=0.02)
+    assert _line(s) == (f"the stream's columns disagree in length (t {n}, q ({n}, 2), "
+                        f"pen ({n},), xy ({n - 1}, 2)); rebuild it with plan_motion")
+
+
+def test_the_move_after_the_lift_row_is_not_held_to_the_tip_limit():
+    # The tip limit binds pen-down pairs of one stroke (and straight pen-up
+    # moves); the step from the lift row to the next, pen-up row is a pen-up
+    # move: 1.2 mm in 20 ms (60 mm/s) there passes a 40 mm/s tip limit.
+    c = ARM.fk(ARM.home())
+    pts = c + np.array([[0.0, 0.0], [0.5, 0.0], [1.7, 0.0], [1.7, 0.0]])
+    q = ARM.ik(pts)
+    s = JointStream(t=np.arange(4) * 0.02, q=q, pen=np.array([1, 1, 0, 0], np.int8),
+                    xy=ARM.fk(q), period=0.02, stroke=np.array([0, 0, -1, -1]))
+    r = check_stream(s, ARM, tip_speed=40.0)
+    assert r.max_tip_speed_mm_s == pytest.approx(25.0, rel=1e-9)
+
+
+def test_the_vertex_line_names_the_point_its_distance_or_too_far():
+    # Stroke 1 (the second, so its point is counted within its own stroke) is
+    # a straight base with a thin spike at x = 0; the rows run along the base
+    # (skipping x in (0, 0.02)), so every row and midpoint is on the stroke but
+    # the spike's tip is not on the drawn path. A 0.08 mm spike is within the
+    # search radius (chord_tol + h / 2 = 0.1 mm) and its distance is printed; a
+    # 1 mm spike is beyond it: "too far". A 1 s period keeps every speed low.
+    c = ARM.fk(ARM.home())
+    xs = np.concatenate([np.linspace(-5.0, 0.0, 251), np.linspace(0.02, 5.0, 250)])
+    q0 = ARM.ik(c + np.array([[-5.0, -20.0], [-5.0, -19.95]]))
+    q1 = ARM.ik(c + np.column_stack([xs, np.zeros_like(xs)]))
+    q = np.concatenate([q0, q0[-1:], q1])              # the pen lifts between the strokes
+    n = len(q)
+    pen = np.ones(n, np.int8)
+    pen[2] = 0
+    s = JointStream(t=np.arange(n) * 1.0, q=q, pen=pen, xy=ARM.fk(q),
+                    period=1.0, stroke=np.r_[0, 0, -1, np.ones(len(q1), int)])
+    s0 = ARM.fk(q0)
+    for height, far in ((0.08, "0.080 mm"), (1.0, "too far")):
+        s1 = c + np.array([[-5.0, 0.0], [0.0, 0.0], [0.0, height], [0.02, 0.0], [5.0, 0.0]])
+        p = s1[2]
+        assert _line(s, strokes=[s0, s1]) == (
+            f"row 3 (t = 3.00 s): point 2 of stroke 1 at ({p[0]:.3f}, {p[1]:.3f}) mm is {far} "
+            "from the drawn path, more than chord_tol 0.05 mm; the stroke is not drawn whole; "
+            "plan the motion again")

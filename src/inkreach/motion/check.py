@@ -344,6 +344,11 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
 
     down = pen == 1
     lab0 = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
+    # The pen lifts between strokes: a pen-down row of another stroke straight
+    # after a pen-down row would drag ink between them that no rule below sees.
+    if (k := _first(down[1:] & down[:-1] & (lab0[1:] != lab0[:-1]))) is not None:
+        _fail(f"{_where(k + 1, T)}: stroke {lab0[k + 1]} follows stroke {lab0[k]} with the pen "
+              "down; the pen must lift between strokes; plan the motion again")
     both = np.flatnonzero(down[1:] & down[:-1] & (lab0[1:] == lab0[:-1])) if N > 1 else \
         np.zeros(0, int)
     tip = np.hypot(*(x[both + 1] - x[both]).T) / T
