@@ -15,7 +15,7 @@ def test_a_circle_of_exact_area_comes_out_of_the_pillow_renderer():
     assert cov.sum() == pytest.approx(np.pi * 9.0, rel=0.01)
 
 
-@pytest.mark.parametrize("y", [0.1, 0.25, 0.4, 0.55, 0.7])
+@pytest.mark.parametrize("y", [0.03, 0.1, 0.25, 0.4, 0.55, 0.7])
 def test_flat_grey_gets_the_murray_davies_coverage(y):
     # Murray-Davies (A. Murray 1936): black ink covering a of the paper reflects 1 - a, so a
     # flat grey Y needs coverage 1 - Y; measured with OpenCV fills, not the project's renderer.
@@ -42,6 +42,21 @@ def test_line_length_grows_with_darkness_across_a_ramp():
     mid = 0.5 * (line[1:, 0] + line[:-1, 0])
     length = np.bincount(np.clip(mid // 50, 0, 7).astype(int), np.hypot(*seg.T), minlength=8)
     assert np.all(np.diff(length) > 0), length          # darker columns: more line
+
+
+def test_each_turn_runs_flat_for_at_most_a_pen_and_half_the_turn_spacing():
+    pen = 2.0
+    for y in (0.1, 0.6):
+        line = wave(np.full((120, 200), y, np.float32), pen_px=pen)[0]
+        seg = np.diff(line, axis=0)
+        flat = (np.abs(seg[:, 1]) < 1e-9) & (np.abs(seg[:, 0]) > 1e-9)
+        flat[np.abs(seg[:, 0]) > 100] = False            # the row's own end runs
+        lengths = np.abs(seg[flat, 0])
+        legs = np.abs(seg[~flat & (np.abs(seg[:, 1]) > 1e-9), 0])
+        assert flat.sum() > 20                           # most turns are flat runs
+        assert lengths.max() <= pen + 1e-9               # at most one pen width (the style's rule)
+        # a flat is at most half the turn spacing, so each leg still leans by as much
+        assert np.median(lengths) <= np.median(legs) + 1e-6
 
 
 def test_zigzag_table_spans_straight_to_solid():
