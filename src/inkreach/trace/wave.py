@@ -10,7 +10,8 @@ from ._common import as_luminance, finish
 
 __all__ = ["wave", "zigzag_coverage"]
 
-_LIGHTEST = 0.02     # tone below which a row runs straight (common practice)
+_LIGHTEST = 0.02     # tone below which a row runs straight (our choice: 2 % ink is
+                     # below what a blurred look tells from bare paper)
 _MIN_STEP = 0.45     # closest turns, pen widths: the ink is solid by then
 _LONGEST = 16.0     # longest distance between turns, in row spacings (lighter
                      # tones are all drawn as this, nearly straight)
