@@ -611,17 +611,36 @@ def test_each_strokes_midpoints_are_checked_on_their_own_stroke():
 
 
 def test_strokes_drawn_back_to_back_without_a_lift_are_refused():
-    # Two strokes whose rows follow each other with the pen down: the move
-    # between them would draw a line that belongs to neither.
+    # Two strokes whose rows follow each other with the pen down (the second a
+    # dot, then a lift): the move between them would draw a line that belongs
+    # to neither.
     c = ARM.fk(ARM.home())
     s0 = c + np.array([[-10.0, -20.0], [-10.0, -19.9]])
-    s1 = c + np.array([[-10.0, -19.8], [-10.0, -19.7]])
-    q = ARM.ik(np.concatenate([s0, s1]))
-    s = JointStream(t=np.arange(4) * 1.0, q=q, pen=np.ones(4, np.int8), xy=ARM.fk(q),
-                    period=1.0, stroke=np.array([0, 0, 1, 1]))
+    s1 = c + np.array([[-10.0, -19.8]])
+    q = ARM.ik(np.concatenate([s0, s1, s1]))
+    s = JointStream(t=np.arange(4) * 1.0, q=q, pen=np.array([1, 1, 1, 0], np.int8),
+                    xy=ARM.fk(q), period=1.0, stroke=np.array([0, 0, 1, -1]))
     assert _line(s, strokes=[s0, s1]) == (
         "row 2 (t = 2.00 s): stroke 1 follows stroke 0 with the pen down; the pen must lift "
         "between strokes; plan the motion again")
+
+
+def test_a_stroke_drawn_in_two_goes_is_refused():
+    # Stroke 0 drawn up to its middle, the pen lifted for two rows while the
+    # arm moves on, then lowered again: the gap is never drawn, though every
+    # pen-down row lies on the stroke and its ends are exact.
+    c = ARM.fk(ARM.home())
+    s0 = c + np.array([[-10.0, -20.0], [-10.0, -19.0]])
+    ys = np.linspace(-20.0, -19.0, 11)
+    q = ARM.ik(c + np.column_stack([np.full(11, -10.0), ys]))
+    pen = np.ones(11, np.int8)
+    pen[4:6] = 0
+    lab = np.where(pen == 1, 0, -1)
+    s = JointStream(t=np.arange(11) * 1.0, q=q, pen=pen, xy=ARM.fk(q), period=1.0,
+                    stroke=lab)
+    assert _line(s, strokes=[s0]) == (
+        "row 6 (t = 6.00 s): stroke 0 goes on after the pen lifted at row 4; draw each "
+        "stroke in one go and plan the motion again")
 
 
 def test_a_short_xy_column_alone_is_refused():
@@ -642,6 +661,11 @@ def test_the_move_after_the_lift_row_is_not_held_to_the_tip_limit():
                     xy=ARM.fk(q), period=0.02, stroke=np.array([0, 0, -1, -1]))
     r = check_stream(s, ARM, tip_speed=40.0)
     assert r.max_tip_speed_mm_s == pytest.approx(25.0, rel=1e-9)
+    # nor the move into the touch-down row (the pen lowers when it arrives)
+    back = JointStream(t=s.t, q=q[::-1].copy(), pen=s.pen[::-1].copy(), xy=ARM.fk(q[::-1]),
+                       period=0.02, stroke=s.stroke[::-1].copy())
+    assert check_stream(back, ARM, tip_speed=40.0).max_tip_speed_mm_s == pytest.approx(
+        25.0, rel=1e-9)
 
 
 def test_the_vertex_line_names_the_point_its_distance_or_too_far():
@@ -669,3 +693,15 @@ def test_the_vertex_line_names_the_point_its_distance_or_too_far():
             f"row 3 (t = 3.00 s): point 2 of stroke 1 at ({p[0]:.3f}, {p[1]:.3f}) mm is {far} "
             "from the drawn path, more than chord_tol 0.05 mm; the stroke is not drawn whole; "
             "plan the motion again")
+
+
+def test_time_is_checked_from_t_zero_and_stays_exact_on_long_streams():
+    # Every row at k * T from t = 0: a stream shifted by 1 ms is refused at
+    # row 0; a 20-minute stream at rest (60,001 rows) passes.
+    r = _rest((120.0, 60.0), n=5)
+    shifted = JointStream(t=r.t + 0.001, q=r.q, pen=r.pen, xy=r.xy, period=0.02)
+    assert _line(shifted) == ("row 0 (t = 0.00 s): time 0.001000 s is off the fixed period "
+                              "0.02 s; the rows must be evenly spaced from t = 0")
+    n = 60_001
+    long = _rest((120.0, 60.0), n=n)
+    assert check_stream(long, ARM).duration == pytest.approx(1200.0)

@@ -385,6 +385,14 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
             _fail(f"stroke {i} is never drawn (no pen-down row); plan the motion again")
         deviation = vertex_miss = 0.0
         kd = np.flatnonzero(down)
+        # Each stroke is drawn in one go: its pen-down rows follow each other.
+        # A lift inside a stroke would leave a gap that the rules below, which
+        # follow a stroke's pen-down rows in order, would bridge.
+        gap = (np.diff(kd) > 1) & (lab[kd[1:]] == lab[kd[:-1]])
+        if (k := _first(gap)) is not None:
+            _fail(f"{_where(int(kd[k + 1]), T)}: stroke {lab[kd[k]]} goes on after the pen "
+                  f"lifted at row {int(kd[k]) + 1}; draw each stroke in one go and plan the "
+                  "motion again")
         if kd.size:
             pair = kd[:-1][(np.diff(kd) == 1) & (lab[kd[1:]] == lab[kd[:-1]])]
             xm = arm.fk(0.5 * (q[pair] + q[pair + 1]))
@@ -399,15 +407,11 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
                 what = "the pen" if worst < kd.size else "the pen between this row and the next"
                 _fail(f"{_where(k, T)}: {what} is {deviation:.3f} mm off stroke {lab[k]}, more "
                       f"than chord_tol {chord_tol:g} mm; plan the motion again")
-            # Exact touch-down and lift.
-            first = np.full(len(S), -1)
+            # Exact touch-down and lift: each stroke's first and last pen-down row.
+            first = np.full(len(S), len(q))
+            np.minimum.at(first, lab[kd], kd)
             last = np.full(len(S), -1)
-            order = np.argsort(lab[kd], kind="stable")
-            ks, ls = kd[order], lab[kd][order]
-            bnd = np.flatnonzero(np.diff(np.concatenate([[-1], ls])))
-            first[ls[bnd]] = ks[bnd]
-            bnd_end = np.concatenate([bnd[1:] - 1, [len(ls) - 1]])
-            last[ls[bnd_end]] = ks[bnd_end]
+            np.maximum.at(last, lab[kd], kd)
             want0 = np.array([s[0] for s in S])
             want1 = np.array([s[-1] for s in S])
             e0 = np.hypot(*(x[first] - want0).T)
