@@ -626,20 +626,26 @@ def test_strokes_drawn_back_to_back_without_a_lift_are_refused():
 
 
 def test_a_stroke_drawn_in_two_goes_is_refused():
-    # Stroke 0 drawn up to its middle, the pen lifted for two rows while the
-    # arm moves on, then lowered again: the gap is never drawn, though every
-    # pen-down row lies on the stroke and its ends are exact.
+    # Stroke 1 (after a stroke 0 elsewhere) drawn up to its middle, the pen
+    # lifted for one row while the arm moves on, then lowered again: the gap
+    # is never drawn, though every pen-down row lies on the stroke and its
+    # ends are exact.
     c = ARM.fk(ARM.home())
-    s0 = c + np.array([[-10.0, -20.0], [-10.0, -19.0]])
+    s0 = c + np.array([[10.0, -20.0], [10.0, -19.9]])
+    s1 = c + np.array([[-10.0, -20.0], [-10.0, -19.0]])
     ys = np.linspace(-20.0, -19.0, 11)
-    q = ARM.ik(c + np.column_stack([np.full(11, -10.0), ys]))
-    pen = np.ones(11, np.int8)
-    pen[4:6] = 0
-    lab = np.where(pen == 1, 0, -1)
-    s = JointStream(t=np.arange(11) * 1.0, q=q, pen=pen, xy=ARM.fk(q), period=1.0,
+    q1 = ARM.ik(c + np.column_stack([np.full(11, -10.0), ys]))
+    q0 = ARM.ik(s0)
+    q = np.concatenate([q0, q0[-1:], q1])
+    pen = np.ones(len(q), np.int8)
+    pen[2] = 0
+    pen[3 + 4] = 0                                      # one row lifted inside stroke 1
+    lab = np.r_[0, 0, -1, np.ones(11, int)]
+    lab[pen == 0] = -1
+    s = JointStream(t=np.arange(len(q)) * 1.0, q=q, pen=pen, xy=ARM.fk(q), period=1.0,
                     stroke=lab)
-    assert _line(s, strokes=[s0]) == (
-        "row 6 (t = 6.00 s): stroke 0 goes on after the pen lifted at row 4; draw each "
+    assert _line(s, strokes=[s0, s1]) == (
+        "row 8 (t = 8.00 s): stroke 1 goes on after the pen lifted at row 7; draw each "
         "stroke in one go and plan the motion again")
 
 
