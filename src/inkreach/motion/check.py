@@ -230,8 +230,9 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
     given, every pen-down row and the joint-space midpoint of every two
     consecutive pen-down rows must lie within ``chord_tol`` of its stroke,
     every vertex of a stroke must lie within ``chord_tol`` of the path its
-    rows draw (rows and midpoints in order: the stroke is drawn whole), and
-    each stroke must start and end exactly at a row.
+    rows draw (rows and midpoints in order: the stroke is drawn whole),
+    each stroke must start and end exactly at a row and be drawn in one go
+    (no lift inside it), and the pen must lift between two strokes.
 
     Parameters
     ----------
