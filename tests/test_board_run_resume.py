@@ -103,3 +103,25 @@ def test_the_rest_of_a_stroke_keeps_the_plans_own_tip_speed(tip):
     got = top_speed({"tip_speed": tip, "chord_tol": 0.05, "corner_blend": True})
     assert 0.9 * tip <= got <= tip * (1 + 1e-6)         # the long straight rest reaches it
     assert top_speed(None) > 1.5 * tip                  # the default limit is not the plan's
+
+
+def test_the_joined_stream_keeps_the_prefixs_straight_moves_under_the_tip_limit():
+    # A prefix whose straight pen-up step runs at 60 mm/s (1.2 mm in 20 ms,
+    # finite differences of the forward kinematics) is refused under a 40 mm/s
+    # plan; without its straight marks the joined stream would not be held to
+    # the limit there. The plan's own rows carry no marks.
+    from inkreach.board.resume import _check_joined, _straight_marks
+    from inkreach.errors import InkreachError
+    from inkreach.motion import JointStream
+    arm = default_arm()
+    c = arm.fk(arm.home())
+    q = arm.ik(c + np.array([[0.0, 0.0], [0.0, 0.0], [1.2, 0.0], [1.2, 0.0]]))
+    pen = np.zeros(4, np.int8)
+    prefix = JointStream(t=np.arange(3) * 0.02, q=q[:3], pen=pen[:3], xy=arm.fk(q[:3]),
+                         period=0.02, straight=np.array([False, False, True]))
+    marks = _straight_marks(prefix, 1)
+    assert marks.tolist() == [False, False, True, False]
+    opts = {"chord_tol": 0.05, "tip_speed": 40.0, "corner_blend": True}
+    with pytest.raises(InkreachError, match="on a straight pen-up move exceeds the tip limit"):
+        _check_joined(q, pen, arm, 0.02, None, opts, marks)
+    _check_joined(q, pen, arm, 0.02, None, opts, None)         # unmarked: joint limits only

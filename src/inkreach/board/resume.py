@@ -129,7 +129,13 @@ def _motion_options(motion):
             "corner_blend": bool(m.get("corner_blend", True))}
 
 
-def _check_joined(q, pen, arm, period, strokes, opts):
+def _straight_marks(prefix, n):
+    """The prefix's straight pen-up rows, then none for the plan's own ``n`` rows."""
+    mine = np.zeros(len(prefix.q), bool) if prefix.straight is None else prefix.straight
+    return np.concatenate([np.asarray(mine, bool), np.zeros(n, bool)])
+
+
+def _check_joined(q, pen, arm, period, strokes, opts, straight=None):
     """Check the joined stream under the plan's own limits.
 
     Rows read back from joints.csv are exact to ``_ROW_ATOL``, so distances
@@ -139,7 +145,7 @@ def _check_joined(q, pen, arm, period, strokes, opts):
     from ..motion import JointStream, check_stream
 
     whole = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
-                        period=period)
+                        period=period, straight=straight)
     tip = opts["tip_speed"]
     check_stream(whole, arm, strokes=strokes, chord_tol=opts["chord_tol"] + _ROW_ATOL,
                  atol=_ROW_ATOL,
@@ -200,7 +206,8 @@ def resume_stream(cursor, posture, arm, q_rows, pen_rows, strokes, period, rehea
     if rehearse:
         pen[:] = 0
     later = strokes[cursor.stroke + 1:] if cursor.stroke >= 0 else []
-    _check_joined(q, pen, arm, period, None if rehearse else draw + list(later), opts)
+    _check_joined(q, pen, arm, period, None if rehearse else draw + list(later), opts,
+                  _straight_marks(prefix, n - tail_from))
     return prefix, tail_from, cursor.stroke, cursor.s, q, pen
 
 
@@ -220,5 +227,6 @@ def approach_stream(posture, arm, q_rows, pen_rows, strokes, period, rehearse=Fa
     pen = np.concatenate([prefix.pen, pen_rows]).astype(np.int8)
     if rehearse:
         pen[:] = 0
-    _check_joined(q, pen, arm, period, None if rehearse else list(strokes), opts)
+    _check_joined(q, pen, arm, period, None if rehearse else list(strokes), opts,
+                  _straight_marks(prefix, len(q_rows)))
     return prefix, 0, -1, 0.0, q, pen
