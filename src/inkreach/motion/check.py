@@ -376,7 +376,7 @@ def check_stream(stream, arm, *, strokes=None, chord_tol=0.05, atol=1e-6, tip_sp
     deviation = vertex_miss = float("nan")
     if strokes is not None:
         S = [np.asarray(s, dtype=float).reshape(-1, 2) for s in strokes]
-        lab = _stroke_labels(pen) if stream.stroke is None else np.asarray(stream.stroke)
+        lab = lab0
         if (k := _first(down & ((lab < 0) | (lab >= len(S))))) is not None:
             _fail(f"{_where(k, T)}: the pen is down but the row belongs to no stroke "
                   f"(stroke index {lab[k]}, {len(S)} strokes); plan the motion again")
