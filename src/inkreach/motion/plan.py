@@ -778,10 +778,10 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     n_travel = [len(cart[i][1]) if i in cart else 2 for i in range(n + 1)]
     base_travel = np.concatenate([[0], np.cumsum(n_travel)])
     base_dwell = base_travel[-1] + 2 * np.arange(n)
-    sizes = np.array([len(drawn[i][0]) if i in drawn else 0 for i in range(n)], int)
-    base_stroke = base_dwell[-1] + 2 + np.concatenate([[0], np.cumsum(sizes)[:-1]]) if n \
+    drawn_rows = np.array([len(drawn[i][0]) if i in drawn else 0 for i in range(n)], int)
+    base_stroke = base_dwell[-1] + 2 + np.concatenate([[0], np.cumsum(drawn_rows)[:-1]]) if n \
         else np.zeros(0, int)
-    n_keys = int(base_travel[-1] + 2 * n + sizes.sum())
+    n_keys = int(base_travel[-1] + 2 * n + drawn_rows.sum())
     # key and stroke of every vertex of the strokes of two or more points
     vkey = np.concatenate([base_stroke[i] + vloc[i] for i in lines]) if lines else \
         np.zeros(0, int)
@@ -817,7 +817,9 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                            base_dwell[i:i + 1] + 1))
         pieces.append(travel(n))
         path = _Path(pieces)
-        return path, _geometry(path, arm, margin, tip_speed)
+        at = np.full(n_keys, -1)            # where each vertex key sits in this path
+        at[path.key] = np.arange(len(path.key))
+        return path, _geometry(path, arm, margin, tip_speed), at
 
     # The blend first, on every stroke; a stroke whose rows still break a
     # rule after a few rounds of repairs (tiny closed marks, e.g. stipple
@@ -826,7 +828,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     blend = np.full(n, bool(corner_blend))
     tries = np.zeros(n, int)
     fkey = np.ones(n_keys)
-    path, g = build(blend)
+    path, g, at = build(blend)
     f = fkey[path.key[:-1]]
     for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
         q, pen, stroke, tau, tv, straight = _time_path(
@@ -842,8 +844,6 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             rows = np.union1d(rows, vrows)
         if rows.size == 0:
             break
-        at = np.full(n_keys, -1)
-        at[path.key] = np.arange(len(path.key))
         slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]])
         hit = np.union1d(stroke[rows], vsid[missed])
         hit = hit[hit >= 0]
@@ -853,9 +853,9 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             inside = g["same"]
             fkey[path.key[:-1][inside]] = f[inside]
             for i in drop:
-                fkey[base_stroke[i]:base_stroke[i] + sizes[i]] = 1.0
+                fkey[base_stroke[i]:base_stroke[i] + drawn_rows[i]] = 1.0
             blend[drop] = False
-            path, g = build(blend)
+            path, g, at = build(blend)
             f = fkey[path.key[:-1]]
         elif not slowed:
             break
