@@ -91,3 +91,7 @@ def test_gain_bounds_are_the_share_of_the_estimated_drawing_time():
     move_s = pen_up_time(nn.strokes, arm, q0) - arm.pen.lift_s * (2 * 30 - 1)
     assert np.isclose(mm, 0.01 * est * nn.stats.pen_up_mm / move_s)
     assert gain_bounds(nn, arm, q0, 0.0) == (0.0, 0.0)
+    # a plan drawn at another tip speed estimates its pen-down time at that speed
+    slow = gain_bounds(nn, arm, q0, 0.01, tip_speed=20.0)[1]
+    assert np.isclose(slow, 0.01 * (pen_up_time(nn.strokes, arm, q0)
+                                    + nn.stats.pen_down_mm / 20.0))

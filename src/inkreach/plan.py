@@ -263,7 +263,8 @@ def plan(image=None, arm=None, style="outline", *, progress=None, **options):
     limits.check_rows(strokes_mm, arm, start_q, motion_opts["period"], motion_opts["tip_speed"],
                       budget, ordered=False, user=user_set)
     step("route")
-    route = route_strokes(strokes_mm, arm, start_q, joint_order=own["joint_order"])
+    route = route_strokes(strokes_mm, arm, start_q, joint_order=own["joint_order"],
+                          tip_speed=motion_opts["tip_speed"])
     limits.check_rows(route.strokes, arm, start_q, motion_opts["period"],
                       motion_opts["tip_speed"], budget, user=user_set)
     step("motion")

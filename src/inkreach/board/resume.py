@@ -122,11 +122,14 @@ _ROW_ATOL = 1e-3
 
 def _motion_options(motion):
     """The plan's motion options (plan.json ``options``) the prefix is planned with."""
-    m = dict(motion or {})
-    tip = m.get("tip_speed", 80.0)
-    return {"chord_tol": float(m.get("chord_tol", 0.05)),
+    from ..plan import MOTION_OPTIONS
+
+    m = {k: (motion or {}).get(k, MOTION_OPTIONS[k]) for k in ("chord_tol", "tip_speed",
+                                                              "corner_blend")}
+    tip = m["tip_speed"]
+    return {"chord_tol": float(m["chord_tol"]),
             "tip_speed": None if tip is None else float(tip),
-            "corner_blend": bool(m.get("corner_blend", True))}
+            "corner_blend": bool(m["corner_blend"])}
 
 
 def _straight_marks(prefix, n):

@@ -49,12 +49,12 @@ def start_posture(arm, placement, start_deg=None):
     return q
 
 
-def gain_bounds(nearest, arm, start_q, gain_share=GAIN_SHARE):
+def gain_bounds(nearest, arm, start_q, gain_share=GAIN_SHARE, tip_speed=TIP_SPEED):
     """Least gain per round of kicks worth searching for, in mm and in seconds.
 
     ``gain_share`` of the estimated drawing time: the nearest-neighbour
     route's pen-up time (:func:`pen_up_time`) plus its pen-down length at
-    the planner's tip speed; in mm at that route's pen-up seconds (lifts
+    ``tip_speed``; in mm at that route's pen-up seconds (lifts
     left out) per pen-up millimetre.
 
     Parameters
@@ -64,6 +64,8 @@ def gain_bounds(nearest, arm, start_q, gain_share=GAIN_SHARE):
     arm : FiveBar or SerialArm
     start_q : array_like, shape (2,)
     gain_share : float
+    tip_speed : float
+        Pen speed while drawing, mm/s (the planner's, default 80).
 
     Returns
     -------
@@ -72,14 +74,15 @@ def gain_bounds(nearest, arm, start_q, gain_share=GAIN_SHARE):
     """
     share = float(gain_share)
     up_s = pen_up_time(nearest.strokes, arm, start_q)
-    est_s = up_s + nearest.stats.pen_down_mm / TIP_SPEED
+    est_s = up_s + nearest.stats.pen_down_mm / float(tip_speed)
     lifts = arm.pen.lift_s * (2 * len(nearest.strokes) - 1)
     mm = nearest.stats.pen_up_mm
     s_per_mm = max(up_s - lifts, 0.0) / mm if mm > 0 else 0.0
     return (share * est_s / s_per_mm if s_per_mm > 0 else 0.0), share * est_s
 
 
-def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE):
+def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE,
+                  tip_speed=TIP_SPEED):
     """Order and orient strokes (arm mm) for drawing, from a start posture.
 
     The order is built in millimetres (:func:`order_strokes`), then, with
@@ -89,7 +92,7 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     Both searches are bounded by the value they add in drawing seconds:
     the drawing time is estimated by the nearest-neighbour order's pen-up
     time (:func:`pen_up_time`, trapezoid moves at the arm's joint limits,
-    lifts) plus its pen-down length at the planner's tip speed, and the
+    lifts) plus its pen-down length at ``tip_speed``, and the
     kicks stop after three rounds in a row each save less than
     ``gain_share`` of it (in the millimetre search converted to mm at that
     order's pen-up seconds per millimetre). The result is never longer in
@@ -107,6 +110,8 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     gain_share : float
         Share of the estimated drawing time below which a round of kicks
         is not worth its computing time; 0 spends the whole budgets.
+    tip_speed : float
+        The planner's pen speed while drawing, mm/s, for that estimate.
 
     Returns
     -------
@@ -124,7 +129,7 @@ def route_strokes(strokes, arm, start_q, joint_order=True, gain_share=GAIN_SHARE
     nearest = greedy_order(strokes, start=start_mm)
     if not nearest.strokes:
         return nearest
-    min_gain_mm, min_gain_s = gain_bounds(nearest, arm, start_q, gain_share)
+    min_gain_mm, min_gain_s = gain_bounds(nearest, arm, start_q, gain_share, tip_speed)
     route = order_strokes(strokes, start=start_mm, min_gain=min_gain_mm)
     if route.stats.pen_up_mm > nearest.stats.pen_up_mm:
         route = nearest
