@@ -148,6 +148,9 @@ def test_blend_off_puts_a_row_exactly_on_every_square_corner():
 def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
     import inkreach.motion.plan as plan_module
 
+    # Blend cuts as far apart as plain ones: the two close corners then get
+    # one cut between them, which the blend cannot repair in one round.
+    monkeypatch.setattr(plan_module, "_BLEND_GAP", plan_module._CUT_GAP)
     arm = load_arm(arm_name)
     c = arm.fk(arm.home()) if arm.home() is not None else np.array([-60.0, 180.0])
     close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
@@ -192,3 +195,27 @@ def test_hatch_passing_its_own_sharp_corner_again_is_planned_whole(blend):
     s = plan_motion([hatch], arm, corner_blend=blend)
     check_stream(s, arm, strokes=[hatch], chord_tol=0.05, tip_speed=80.0)
     assert _vertex_miss(s, [hatch], arm) <= 0.05
+
+
+def test_blend_cuts_two_sharp_corners_closer_than_a_period_apart():
+    # Two 30-degree turns 0.6 mm apart, less than the 1.6 mm one period
+    # covers at 80 mm/s. Plain rows keep only the first cut (a piece shorter
+    # than a period would be stretched to a whole one); with the blend the
+    # pieces share the stroke's row clock and both corners get their row.
+    from inkreach.motion.plan import _corner_stops
+    from inkreach.motion.subdivide import subdivide
+
+    arm = load_arm("default")
+    c = arm.fk(arm.home())
+    a = np.deg2rad([30.0, 60.0])
+    u = np.c_[np.cos(a), np.sin(a)]
+    s = c + np.array([[-10.0, 0.0], [0.0, 0.0], 0.6 * u[0], 0.6 * u[0] + 10.0 * u[1]])
+    P, Q = subdivide(s, arm, 0.03)
+    corners = [int(np.argmin(np.hypot(*(P - v).T))) for v in s[1:3]]
+    plain = _corner_stops(P, Q, arm, 1.0, 0.02, 0.05, 80.0, blend=False)
+    blend = _corner_stops(P, Q, arm, 1.0, 0.02, 0.05, 80.0, blend=True)
+    assert list(plain) == corners[:1]
+    assert list(blend) == corners
+    for on in (False, True):
+        st_ = plan_motion([s], arm, corner_blend=on)
+        check_stream(st_, arm, strokes=[s], chord_tol=0.05, tip_speed=80.0)

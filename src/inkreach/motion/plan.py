@@ -24,6 +24,7 @@ _STOP_BELOW = 0.5                # put a row on a corner passed slower than this
 #: clean, even line.
 TIP_SPEED = 80.0
 _CUT_GAP = 1.0                   # least distance between cuts, in periods at the tip speed
+_BLEND_GAP = 0.25                # the same with the corner blend
 _CUT_ANGLE = np.deg2rad(5.0)     # only vertices turning more than this get a row of their own
 _CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_stops)
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
@@ -285,8 +286,10 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
         return cuts
     # Pieces shorter than what one period covers would each be stretched to
     # a whole period: keep cuts at least that far apart along the stroke.
+    # With the blend the pieces share one row clock and a short piece costs
+    # only the wait for a row near its vertex: a quarter of that will do.
     sP = np.concatenate([[0.0], np.cumsum(L)])[cuts]
-    gap = _CUT_GAP * tip_speed * period
+    gap = (_BLEND_GAP if blend else _CUT_GAP) * tip_speed * period
     keep = [0]
     for j in range(1, len(cuts)):    # a loop over the cuts only, few per stroke
         if sP[j] - sP[keep[-1]] >= gap:
