@@ -451,15 +451,15 @@ def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
 
 
 def _slow_down(f, tv, tau, rows, period, times=None):
-    """Scale down the limits of every segment near the offending rows (and times)."""
+    """Scale down the limits of every segment within a period of the offending rows (and times)."""
     t = tau[rows]
     if times is not None:
         t = np.concatenate([t, times])
     t = t[np.isfinite(t)]
     if t.size == 0:
         return False
-    lo = np.searchsorted(tv[1:], t - 2 * period, side="left")
-    hi = np.searchsorted(tv[:-1], t + 2 * period, side="right")
+    lo = np.searchsorted(tv[1:], t - period, side="left")
+    hi = np.searchsorted(tv[:-1], t + period, side="right")
     mark = np.zeros(len(f) + 1, int)
     np.add.at(mark, lo, 1)
     np.add.at(mark, hi, -1)
