@@ -711,3 +711,28 @@ def test_time_is_checked_from_t_zero_and_stays_exact_on_long_streams():
     n = 60_001
     long = _rest((120.0, 60.0), n=n)
     assert check_stream(long, ARM).duration == pytest.approx(1200.0)
+
+
+@pytest.mark.parametrize("arm_name", ["default", "serial"])
+def test_a_move_timed_exactly_at_the_limit_needs_no_repair(arm_name, monkeypatch):
+    # A single-joint rest-to-rest move of amax (5 T)^2 is the textbook triangle
+    # of exactly 10 periods at amax (Biagiotti & Melchiorri 2008, sec. 3.2);
+    # sampled, its second differences sit at the acceleration it was timed
+    # with. The planner times against the limits less the rounding allowance
+    # of _stream_violations, so its first timing already passes and needs no
+    # slow-down round (timed at amax itself it would need one).
+    import inkreach.motion.plan as plan_module
+    from inkreach.motion.check import _written_limits
+
+    arm = load_arm(arm_name)
+    h = arm.home() if arm.home() is not None else arm.ik(np.array([-60.0, 180.0]))
+    d = arm.limits.max_accel * (5 * 0.02) ** 2
+    rounds = []
+    real = plan_module._slow_down
+    monkeypatch.setattr(plan_module, "_slow_down",
+                        lambda *a, **k: rounds.append(1) or real(*a, **k))
+    s = plan_motion([], arm, start=h, end=h + np.array([d, 0.0]))
+    assert rounds == []
+    acc = np.abs(np.diff(s.q, 2, axis=0)).max(axis=1) / s.period ** 2
+    assert acc.max() <= _written_limits(arm, s.period)[1]
+    check_stream(s, arm)

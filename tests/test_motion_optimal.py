@@ -222,7 +222,7 @@ def test_a_corner_that_must_stop_gets_a_zero_speed_cap():
     P = np.array([[0.0, 150.0], [10.0, 150.0], [0.0, 150.2]])
     Q = arm.ik(P)
     path = _Path([(_STROKE, P, Q, 1, 0)])
-    g = _geometry(path, arm, 1.0, 80.0)
+    g = _geometry(path, arm, 1.0, 80.0, 0.02)
     dp = np.diff(P, axis=0)
     assert _corner_speed(dp[:1], dp[1:], np.array([3000.0]), 0.02, 0.05)[0] < 0
     cap2 = _vertex_caps(path, g, arm, 1.0, 0.02, 0.05, np.ones(len(g["length"])))

@@ -78,6 +78,20 @@ def _first(bad):
     return int(k[0]) if bad.ndim == 1 else tuple(int(i) for i in k)
 
 
+def _written_limits(arm, period):
+    """Joint speed and acceleration limits less what writing the angles can add.
+
+    Rounding each angle to the nearest ``r = _ROUND_DEG`` moves it by at
+    most ``r / 2``, so a first difference by at most ``r`` (a speed by
+    ``r / period``) and a second difference by at most ``2 r`` (an
+    acceleration by ``2 r / period^2``). The planner times against these, so
+    that what it plans at the limit still passes once written.
+    """
+    lim = arm.limits
+    r = np.deg2rad(_ROUND_DEG)
+    return lim.max_speed - r / period, lim.max_accel - 2 * r / period ** 2
+
+
 def _stream_violations(q, period, arm):
     """Rows involved in a finite-difference speed or acceleration beyond the limits.
 
@@ -89,10 +103,7 @@ def _stream_violations(q, period, arm):
     ndarray of int
         Sorted row indices (empty when everything is within the limits).
     """
-    lim = arm.limits
-    r = np.deg2rad(_ROUND_DEG)
-    vlim = lim.max_speed - r / period
-    alim = lim.max_accel - 2 * r / period ** 2
+    vlim, alim = _written_limits(arm, period)
     if len(q) < 2:
         return np.zeros(0, int)
     v = np.abs(np.diff(q, axis=0)).max(axis=1) / period

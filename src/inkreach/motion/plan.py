@@ -4,7 +4,7 @@ import numpy as np
 
 from ..errors import InkreachError
 from ..place._geometry import _ccw, _inside_convex
-from .check import check_stream, _stream_violations
+from .check import check_stream, _stream_violations, _written_limits
 from .stream import JointStream
 from .subdivide import _drop_repeats, _subdivide_many
 from .timing import _forward_backward, _position_in_segment, _segment_profiles
@@ -147,7 +147,7 @@ class _Path:
                               & (self.stroke[:-1] == self.stroke[1:]))
 
 
-def _geometry(path, arm, margin, tip_speed):
+def _geometry(path, arm, margin, tip_speed, period):
     """Per-segment lengths, joint tangents and base limits; per-vertex geometry."""
     Q, P = path.Q, path.P
     vk = path.kind[path.vpiece]
@@ -161,10 +161,10 @@ def _geometry(path, arm, margin, tip_speed):
     with np.errstate(invalid="ignore", divide="ignore"):
         qp = np.where(length[:, None] > 0, dq / length[:, None], 0.0)
     qpm = np.abs(qp).max(axis=1)
-    lim = arm.limits
+    vmax, amax = _written_limits(arm, period)
     with np.errstate(divide="ignore"):
-        vseg = np.where(qpm > 0, margin * lim.max_speed / qpm, np.inf)
-        acc = np.where(qpm > 0, margin * lim.max_accel / qpm, np.inf)
+        vseg = np.where(qpm > 0, margin * vmax / qpm, np.inf)
+        acc = np.where(qpm > 0, margin * amax / qpm, np.inf)
     drawing = same & (vk[:-1] == _STROKE)
     tipped = drawing | (same & (vk[:-1] == _TRAVEL_CART))
     if np.any(tipped):
@@ -259,13 +259,14 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
     L = np.hypot(dp[:, 0], dp[:, 1])
     qp = dq / L[:, None]
     qpm = np.abs(qp).max(axis=1)
+    vmax, amax = _written_limits(arm, period)
     with np.errstate(divide="ignore"):
-        acc = margin * arm.limits.max_accel / qpm
+        acc = margin * amax / qpm
     at = np.maximum(acc[:-1], acc[1:])
     vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
     jump = np.abs(qp[1:] - qp[:-1]).max(axis=1)
     with np.errstate(divide="ignore"):
-        vk = np.minimum(_NORMAL_SHARE * margin * arm.limits.max_accel * period / jump, tip_speed)
+        vk = np.minimum(_NORMAL_SHARE * margin * amax * period / jump, tip_speed)
     c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
     sharp = c < np.cos(_CUT_ANGLE)
     cuts = (vc < _STOP_BELOW * vk) & sharp
@@ -277,7 +278,7 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
         # where the dip costs more.
         with np.errstate(divide="ignore", invalid="ignore"):
             vf = np.minimum(np.minimum(vk, tip_speed),
-                            margin * arm.limits.max_speed / np.maximum(qpm[:-1], qpm[1:]))
+                            margin * vmax / np.maximum(qpm[:-1], qpm[1:]))
             a = np.minimum(acc[:-1], acc[1:])
             dip = (vf - np.clip(vc, 0.0, vf)) ** 2 / (a * vf)
         cuts &= ~(dip <= _CUT_COST * period)
@@ -309,7 +310,7 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     """
     K = len(path.Q)
     cap = np.zeros(K)
-    an = _NORMAL_SHARE * margin * arm.limits.max_accel
+    an = _NORMAL_SHARE * margin * _written_limits(arm, period)[1]
 
     def kink(i_in, i_out):
         fi = np.minimum(f[i_in], f[i_out])
@@ -620,7 +621,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     timed as one path by the phase-plane forward-backward pass (exact
     time-optimal on the joint-linear pieces between vertices) under
     per-joint speed and acceleration limits (``margin`` times the arm's,
-    1 by default: no blanket margin), the tip-speed limit and
+    1 by default: no blanket margin, less only what writing the angles to
+    1e-4 degree can add to a finite difference), the tip-speed limit and
     discrete-time corner limits: a corner may not be cut by more than
     ``0.4 chord_tol`` between two rows, and a change of joint direction
     must fit in one period within half the acceleration limit. A sharp
@@ -822,7 +824,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         path = _Path(pieces)
         at = np.full(n_keys, -1)            # where each vertex key sits in this path
         at[path.key] = np.arange(len(path.key))
-        return path, _geometry(path, arm, margin, tip_speed), at
+        return path, _geometry(path, arm, margin, tip_speed, period), at
 
     # The blend first, on every stroke; a stroke whose rows still break a
     # rule after a few rounds of repairs (tiny closed marks, e.g. stipple
