@@ -818,24 +818,42 @@ def test_the_lift_message_prints_the_stroke_rounding_slack(saved, tmp_path):
 def test_the_worst_stroke_distance_figure_is_over_every_stroke(saved, tmp_path):
     # The figure is the largest distance of any row or joint-space midpoint
     # from its stroke, measured here with the planner's arm and the written
-    # out distance above.
+    # out distance above. So that a figure of the last stroke alone would
+    # differ, one row in the middle of the first stroke is pushed 0.045 mm
+    # off it, inside the 0.05 mm tolerance (a bound we chose: over the
+    # planned rows' own distances, under the tolerance), the plan still
+    # passing.
     from inkreach.arms import parse_arm
-    m = _meta(saved)
-    r = _rows(saved)
+    p = _copy(saved, tmp_path)
+    m = _meta(p)
+    r = _rows(p)
     arm = parse_arm(m["arm"])
-    q = np.radians(r[:, 1:3])
     down = r[:, 3] == 1
     starts = np.flatnonzero(down & ~np.r_[False, down[:-1]])
     ends = np.flatnonzero(down & ~np.r_[down[1:], False])
+    s0 = np.asarray(m["strokes"][0], float)
+    k = (starts[0] + ends[0]) // 2
+    x = arm.fk(np.radians(r[k, 1:3]))
+    a, b = s0[:-1], s0[1:]
+    u = np.clip(((x - a) * (b - a)).sum(1) / ((b - a) ** 2).sum(1), 0.0, 1.0)
+    feet = a + u[:, None] * (b - a)
+    j = int(np.argmin(np.hypot(*(feet - x).T)))
+    t = (b[j] - a[j]) / np.hypot(*(b[j] - a[j]))
+    target = feet[j] + 0.045 * np.array([-t[1], t[0]])
+    r[k, 1:3] = np.degrees(arm.ik(target))
+    r[k, 4:6] = arm.fk(np.radians(r[k, 1:3]))
+    _write_rows(p, r)
+    q = np.radians(r[:, 1:3])
     per = []
-    for s, k0, k1 in zip(m["strokes"], starts, ends):
-        s = np.asarray(s, float)
+    for st, k0, k1 in zip(m["strokes"], starts, ends):
+        st = np.asarray(st, float)
         mid = arm.fk(0.5 * (q[k0:k1] + q[k0 + 1:k1 + 1]))
-        per.append(max(_segment_distance(arm.fk(q[k0:k1 + 1]), s).max(),
-                       _segment_distance(mid, s).max()))
+        per.append(max(_segment_distance(arm.fk(q[k0:k1 + 1]), st).max(),
+                       _segment_distance(mid, st).max()))
     assert len(per) >= 2 and np.argmax(per) != len(per) - 1, per   # not the last stroke
-    fig = check_plan(saved).figures["strokes"]
-    assert f"worst distance from its stroke {max(per):.4f} mm" in fig, fig
+    res = check_plan(p)
+    assert res.ok, res.problem
+    assert f"worst distance from its stroke {max(per):.4f} mm" in res.figures["strokes"]
 
 
 def test_the_tip_speed_message_names_the_second_row_of_the_first_fast_pair(saved, tmp_path):

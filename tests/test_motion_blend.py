@@ -144,8 +144,15 @@ def test_blend_off_puts_a_row_exactly_on_every_square_corner():
         assert np.hypot(*(x - v).T).min() < 1e-9
 
 
-@pytest.mark.parametrize("arm_name", ["default", "serial"])
-def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
+def _polygon(c, r, n):
+    a = np.linspace(0.0, 2 * np.pi, n + 1)
+    return c + r * np.column_stack([np.cos(a), np.sin(a)])
+
+
+# A closed polygon whose corners the blend passes faster than plain rows
+# and with no repair: twelve sides on the five-bar, six on the serial arm.
+@pytest.mark.parametrize("arm_name, sides", [("default", 12), ("serial", 6)])
+def test_blend_falls_back_for_the_failing_stroke_only(arm_name, sides, monkeypatch):
     import inkreach.motion.plan as plan_module
 
     # Blend cuts as far apart as plain ones: the two close corners then get
@@ -155,7 +162,7 @@ def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
     c = arm.fk(arm.home()) if arm.home() is not None else np.array([-60.0, 180.0])
     close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
                           [-1.6, 6.5], [3.4, 10.6]])
-    strokes = [_square(c, 15.0), close]
+    strokes = [_polygon(c, 15.0, sides), close]
     q0 = arm.ik(c)
     on = plan_motion(strokes, arm, start=q0, end=q0)
     off = plan_motion(strokes, arm, start=q0, end=q0, corner_blend=False)
@@ -169,7 +176,7 @@ def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
     def rows(s, i):
         return s.q[(s.pen == 1) & (s.stroke == i)]
 
-    # the square keeps the blend (its rows as in the all-blend plan) ...
+    # the polygon keeps the blend (its rows as in the all-blend plan) ...
     assert len(rows(on, 0)) < len(rows(off, 0))
     # (to rounding: the backward pass sums from the drawing's end)
     assert rows(mixed, 0).shape == rows(on, 0).shape

@@ -30,6 +30,7 @@ _CUT_COST = 0.5                  # what a cut costs, in periods (see _corner_sto
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
+_TIP_STEP = 2.0                  # longest piece the timing sees on a stroke, mm
 _BLEND_REPAIRS = 12              # repair rounds a blended stroke gets before falling back
 
 
@@ -118,6 +119,49 @@ def _cartesian_moves(arm, qa, qb, region, chord_tol):
         Qi[0], Qi[-1] = qa[i], qb[i]
         out.append((P[a:b + 1], Qi))
     return out
+
+
+def _split_for_timing(P, Q, origin, active, arm, step):
+    """Cut the joint-linear segments of subdivided strokes into pieces of at most ``step`` mm.
+
+    The path stays the same (the new vertices lie on each segment's joint
+    line, their pen positions from forward kinematics); only the timing
+    sees it finer. A segment's speed is held under the tip limit at its
+    worse end, which on a 6 mm segment whose pen-speed gain changes by a
+    few per cent costs that much along its whole length.
+
+    Parameters
+    ----------
+    P, Q, origin : ndarray
+        As returned by ``_subdivide_many`` for the concatenated strokes.
+    active : ndarray of bool
+        The ``active`` given to ``_subdivide_many``: the jumps from one
+        stroke's last point to the next one's first are left whole.
+    arm : FiveBar or SerialArm
+    step : float
+        Longest piece, mm.
+
+    Returns
+    -------
+    P, Q, origin : ndarray
+        The same, with the new vertices' origin -1.
+    """
+    if len(P) < 2:
+        return P, Q, origin
+    seg = np.hypot(*np.diff(P, axis=0).T)
+    m = np.maximum(1, np.ceil(seg / step).astype(int))
+    ends = np.flatnonzero((origin[:-1] >= 0) & (origin[1:] >= 0))
+    m[ends[~active[origin[ends]]]] = 1
+    w = np.repeat(np.arange(len(seg)), m)
+    k = np.arange(m.sum()) - np.repeat(np.cumsum(m) - m, m)
+    u = (k / m[w])[:, None]
+    Qn = np.concatenate([Q[:-1][w] + u * (Q[1:] - Q[:-1])[w], Q[-1:]])
+    Pn = arm.fk(Qn)
+    whole = np.concatenate([k == 0, [True]])
+    Pn[whole] = P
+    On = np.full(len(Qn), -1)
+    On[whole] = origin
+    return Pn, Qn, On
 
 
 class _Path:
@@ -619,7 +663,9 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     or above the conditioning floor), otherwise straight in Cartesian space.
     Every move, dwell and stroke starts and ends at rest. Each stroke is
     timed as one path by the phase-plane forward-backward pass (exact
-    time-optimal on the joint-linear pieces between vertices) under
+    time-optimal on the joint-linear pieces between vertices, which the
+    timing sees at most 2 mm long so the tip limit holds at each piece's
+    worse end without costing the rest of a long piece) under
     per-joint speed and acceleration limits (``margin`` times the arm's,
     1 by default: no blanket margin, less only what writing the angles to
     1e-4 degree can add to a finite difference), the tip-speed limit and
@@ -763,6 +809,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         active = np.ones(len(pts) - 1, bool)
         active[np.cumsum(sizes)[:-1] - 1] = False
         P, Q, origin = _subdivide_many(pts, active, arm, _PATH_SHARE * chord_tol)
+        P, Q, origin = _split_for_timing(P, Q, origin, active, arm, _TIP_STEP)
         pos = np.flatnonzero(origin >= 0)
         ends = np.cumsum(sizes)
         begins = ends - sizes
