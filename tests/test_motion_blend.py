@@ -149,20 +149,23 @@ def _polygon(c, r, n):
     return c + r * np.column_stack([np.cos(a), np.sin(a)])
 
 
-# A closed polygon whose corners the blend passes faster than plain rows
-# and with no repair: twelve sides on the five-bar, six on the serial arm.
-@pytest.mark.parametrize("arm_name, sides", [("default", 12), ("serial", 6)])
-def test_blend_falls_back_for_the_failing_stroke_only(arm_name, sides, monkeypatch):
+@pytest.mark.parametrize("arm_name", ["default", "serial"])
+def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
     import inkreach.motion.plan as plan_module
 
     # Blend cuts as far apart as plain ones: the two close corners then get
     # one cut between them, which the blend cannot repair in one round.
     monkeypatch.setattr(plan_module, "_BLEND_GAP", plan_module._CUT_GAP)
+    # Missed vertices repaired by slowing down only (no cut given to them),
+    # so that the close corners keep failing under the blend.
+    monkeypatch.setattr(plan_module, "_cut_missed", lambda missed, *a: np.zeros(len(missed), bool))
     arm = load_arm(arm_name)
     c = arm.fk(arm.home()) if arm.home() is not None else np.array([-60.0, 180.0])
     close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
                           [-1.6, 6.5], [3.4, 10.6]])
-    strokes = [_polygon(c, 15.0, sides), close]
+    # a twelve-sided polygon, whose corners the blend passes faster than
+    # plain rows do, with no repair on either arm
+    strokes = [_polygon(c, 15.0, 12), close]
     q0 = arm.ik(c)
     on = plan_motion(strokes, arm, start=q0, end=q0)
     off = plan_motion(strokes, arm, start=q0, end=q0, corner_blend=False)
@@ -226,3 +229,32 @@ def test_blend_cuts_two_sharp_corners_closer_than_a_period_apart():
     for on in (False, True):
         st_ = plan_motion([s], arm, corner_blend=on)
         check_stream(st_, arm, strokes=[s], chord_tol=0.05, tip_speed=80.0)
+
+
+def test_a_vertex_the_rows_miss_gets_a_row_instead_of_a_slower_pass(monkeypatch):
+    # Two sharp corners 0.2 mm apart, blended, with blend cuts kept as far
+    # apart as plain ones so that only the first gets a row: the rows miss
+    # the second in the first timing. It is given a row of its own (a cut,
+    # costing at most the wait for a row near it) rather than repaired by
+    # slowing down; the result passes the check, draws every vertex within
+    # the tolerance, and takes no longer than repairing by slowing only.
+    import inkreach.motion.plan as plan_module
+
+    monkeypatch.setattr(plan_module, "_BLEND_GAP", plan_module._CUT_GAP)
+
+    arm = load_arm("default")
+    c = arm.fk(arm.home())
+    close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
+                          [-1.6, 6.5], [3.4, 10.6]])
+    q0 = arm.ik(c)
+    given = []
+    real = plan_module._cut_missed
+    monkeypatch.setattr(plan_module, "_cut_missed",
+                        lambda *a: given.append(int(np.sum(r := real(*a)))) or r)
+    cut = plan_motion([close], arm, start=q0, end=q0)
+    assert sum(given) >= 1
+    check_stream(cut, arm, strokes=[close], chord_tol=0.05, tip_speed=80.0)
+    assert _vertex_miss(cut, [close], arm) <= 0.05
+    monkeypatch.setattr(plan_module, "_cut_missed", lambda missed, *a: np.zeros(len(missed), bool))
+    slowed = plan_motion([close], arm, start=q0, end=q0)
+    assert cut.duration <= slowed.duration

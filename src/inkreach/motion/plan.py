@@ -14,9 +14,9 @@ __all__ = ["plan_motion"]
 _TRAVEL_JOINT, _TRAVEL_CART, _DWELL, _STROKE = 0, 1, 2, 3
 _CHECK_STEP = np.deg2rad(0.25)   # joint step when probing a pen-up joint-space move
 _LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
-_NORMAL_SHARE = 0.5              # share of the acceleration budget spent turning corners
+_NORMAL_SHARE = 0.6              # share of the acceleration budget spent turning corners
 _PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
-_CORNER_SHARE = 0.4              # share of chord_tol a corner may be cut between two rows
+_CORNER_SHARE = 0.6              # share of chord_tol a corner may be cut between two rows
 _STOP_BELOW = 0.5                # put a row on a corner passed slower than this x the on-row speed
 #: Default pen-tip speed limit while drawing, mm/s. A bound we chose for
 #: fibre-tip and gel pens on light hobby arms, well under the ~380 mm/s of
@@ -652,6 +652,24 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1)), bad
 
 
+def _cut_missed(missed, vsid, vloc, drawn, cut_memo, forced, blend):
+    """Give each missed, not yet cut, interior stroke vertex a cut; True where one was given.
+
+    ``missed`` indexes the vertices of the strokes of two or more points
+    (``vsid`` their stroke, ``vloc`` their place in its subdivided path);
+    the new cuts go into ``forced``. A loop over the missed vertices only.
+    """
+    done = np.zeros(len(missed), bool)
+    for k, v in enumerate(missed):
+        i, j = int(vsid[v]), int(vloc[v])
+        have = forced.setdefault(i, set())
+        if 0 < j < len(drawn[i][0]) - 1 and j not in have \
+                and j not in cut_memo.get((i, bool(blend[i])), ()):
+            have.add(j)
+            done[k] = True
+    return done
+
+
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
                 tip_speed=None, region=None, margin=1.0, corner_blend=True):
     """Plan the joint stream that draws ordered strokes.
@@ -670,25 +688,27 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     1 by default: no blanket margin, less only what writing the angles to
     1e-4 degree can add to a finite difference), the tip-speed limit and
     discrete-time corner limits: a corner may not be cut by more than
-    ``0.4 chord_tol`` between two rows, and a change of joint direction
-    must fit in one period within half the acceleration limit. A sharp
+    ``0.6 chord_tol`` between two rows, and a change of joint direction
+    must fit in one period within 0.6 of the acceleration limit. A sharp
     vertex, where the corner rule would force a near stop, gets a row
     on it instead and is passed at the speed the joint direction change
     allows, without stopping. With ``corner_blend`` (the default) the row
     need only land near the vertex: the chord between the two rows around
-    it then cuts the corner by at most ``0.4 chord_tol`` (a chord blend
+    it then cuts the corner by at most ``0.6 chord_tol`` (a chord blend
     inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
     stretched only as far as that needs, and only vertices whose slow-down
     would cost more than about half a period are treated so; a stroke
     whose rows cannot be repaired within a few rounds is timed again
-    without the blend, the other strokes keep it. Without it the row lands exactly
-    on the vertex and the stroke's time between such vertices is stretched
-    to a whole number of periods. Rows whose finite differences still break
-    a limit (joint speed, acceleration, or the tip speed from forward
-    kinematics), or next to which a stroke vertex lies further than
-    ``chord_tol`` from the drawn path (rows and joint-space midpoints: two
-    close sharp corners cut at once), are slowed down locally and
-    re-timed, with the blend or without.
+    without the blend, the other strokes keep it. Without it the row lands
+    exactly on the vertex and the stroke's time between such vertices is
+    stretched to a whole number of periods. These rules are estimates, and
+    the rows are checked against the real ones: a stroke vertex that lies
+    further than ``chord_tol`` from the drawn path (rows and joint-space
+    midpoints) while passed between two rows is given a row of its own;
+    rows whose finite differences still break a limit (joint speed,
+    acceleration, or the tip speed from forward kinematics), that stray
+    too far, or next to a vertex already given a row and still missed,
+    are slowed down locally and re-timed, with the blend or without.
     The stream is executed by holding each row for one period (zero-order
     hold): the pen is commanded down on the row where a pen-up move arrives
     at rest, and up on the row after a stroke's last row, and in both cases
@@ -849,6 +869,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
     index = _StrokeIndex(S, chord_tol) if n else None
     cut_memo = {}
+    forced = {}                 # stroke -> vertices given a row after a miss
 
     def build(blend):
         pieces = []
@@ -861,7 +882,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                 if (i, blend[i]) not in cut_memo:
                     cut_memo[i, blend[i]] = _corner_stops(P, Q, arm, margin, period, chord_tol,
                                                           tip_speed, blend[i])
-                cuts = cut_memo[i, blend[i]]
+                cuts = np.union1d(cut_memo[i, blend[i]], sorted(forced.get(i, ()))).astype(int)
                 for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
                     pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i,
                                    base_stroke[i] + np.arange(a, b + 1)))
@@ -889,23 +910,31 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         rows = _stream_violations(q, period, arm)
         rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
                                                 straight))
-        missed = np.zeros(0, int)
+        missed = vrows = np.zeros(0, int)
         if index is not None:
             rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
             vrows, missed = _vertex_misses(q, pen, stroke, arm, S, chord_tol)
-            rows = np.union1d(rows, vrows)
-        if rows.size == 0:
+        if rows.size == 0 and missed.size == 0:
             break
+        # A stroke vertex the rows miss, passed between two rows, gets a row
+        # of its own (a cut) rather than a slower pass: that costs at most
+        # the wait for a row near it. One already cut is slowed down around.
+        cut_now = _cut_missed(missed, vsid, vkey - base_stroke[vsid] if vsid.size else vkey,
+                              drawn, cut_memo, forced, blend)
+        missed = missed[~cut_now]
+        if not cut_now.any():
+            rows = np.union1d(rows, vrows)
         slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]])
         hit = np.union1d(stroke[rows], vsid[missed])
         hit = hit[hit >= 0]
         tries[hit] += 1
         drop = hit[blend[hit] & (tries[hit] >= _BLEND_REPAIRS)]
-        if drop.size:
+        if drop.size or cut_now.any():
             inside = g["same"]
             fkey[path.key[:-1][inside]] = f[inside]
             for i in drop:
                 fkey[base_stroke[i]:base_stroke[i] + drawn_rows[i]] = 1.0
+                forced.pop(i, None)
             blend[drop] = False
             path, g, at = build(blend)
             f = fkey[path.key[:-1]]
