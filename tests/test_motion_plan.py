@@ -526,6 +526,44 @@ def test_the_vertex_repair_names_the_rows_around_a_cut_corner():
     assert got and max(got) <= 22, got
 
 
+@pytest.mark.parametrize("fallback", [False, True])
+def test_repairs_checking_only_the_changed_strokes_plan_the_same_stream(fallback, monkeypatch):
+    # The reference is the planner checking every stroke in every repair
+    # round (_INCREMENTAL off): keeping the verdicts of strokes whose rows did
+    # not change must give the same stream, bit for bit. With one blend round
+    # allowed, strokes also fall back to plain rows (the path is rebuilt).
+    import inkreach.motion.plan as plan_module
+
+    if fallback:
+        monkeypatch.setattr(plan_module, "_BLEND_REPAIRS", 1)
+    arm = load_arm("default")
+    square = np.array([[-15.0, 140.0], [15.0, 140.0], [15.0, 170.0], [-15.0, 170.0],
+                       [-15.0, 140.0]])
+    zigs = [np.array([[x, 180.0], [x + 1.0, 183.0], [x + 2.0, 180.0], [x + 3.0, 183.0]])
+            for x in (-12.0, -4.0, 4.0)]
+    vee = np.array([[20.0, 150.0], [21.0, 156.0], [22.0, 150.0]])
+    strokes = [square, *zigs, vee]
+    checked = []
+    off_stroke_rows = plan_module._off_stroke_rows
+
+    def counted(q, pen, stroke, *args):
+        checked.append(np.unique(stroke[pen == 1]).tolist())
+        return off_stroke_rows(q, pen, stroke, *args)
+
+    monkeypatch.setattr(plan_module, "_off_stroke_rows", counted)
+    fast = plan_motion(strokes, arm)
+    rounds = list(checked)
+    monkeypatch.setattr(plan_module, "_INCREMENTAL", False)
+    full = plan_motion(strokes, arm)
+    # repairs happened, and some rounds checked only some of the strokes
+    assert len(rounds) > 1 and rounds[0] == list(range(len(strokes)))
+    assert any(len(r) < len(strokes) for r in rounds[1:]), rounds
+    for a, b in ((fast.q, full.q), (fast.pen, full.pen), (fast.stroke, full.stroke),
+                 (fast.t, full.t)):
+        assert a.dtype == b.dtype and a.shape == b.shape
+        assert np.array_equal(a, b)
+
+
 def test_joint_space_pen_up_moves_are_probed_for_limits_and_conditioning():
     # A pen-up move along the joint-space line is usable when every probed
     # posture is inside the joint limits, assembles, and meets the

@@ -581,11 +581,11 @@ class _StrokeIndex:
         return np.where(self.sid[idx] == lab[:, None], d, np.inf).min(axis=1)
 
 
-def _chord_violations(q, pen, stroke, arm, index, chord_tol):
-    """Rows whose pen, or whose joint-space midpoint with the next row, strays too far.
+def _off_stroke_rows(q, pen, stroke, arm, index, chord_tol):
+    """Pen-down rows that, or whose joint-space midpoint with the next row, stray too far.
 
-    The same rule as :func:`check_stream`, so the corner rule may be
-    optimistic: rows it lets cut a corner too deeply are slowed down.
+    The rows of :func:`_chord_violations` before the row after each is
+    added; a row may come twice (its own pen and its midpoint).
     """
     kd = np.flatnonzero(pen == 1)
     if kd.size == 0:
@@ -595,8 +595,71 @@ def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     lab = np.concatenate([stroke[kd], stroke[pair]])
     row = np.concatenate([kd, pair])
     # Headroom of 1 % of the tolerance for rounding the angles when written.
-    bad = row[index.distance(pts, lab) > 0.99 * chord_tol]
+    return row[index.distance(pts, lab) > 0.99 * chord_tol]
+
+
+def _chord_violations(q, pen, stroke, arm, index, chord_tol):
+    """Rows whose pen, or whose joint-space midpoint with the next row, strays too far.
+
+    The same rule as :func:`check_stream`, so the corner rule may be
+    optimistic: rows it lets cut a corner too deeply are slowed down.
+    """
+    bad = _off_stroke_rows(q, pen, stroke, arm, index, chord_tol)
     return np.unique(np.concatenate([bad, bad + 1]))
+
+
+def _missed_vertices(q, pen, stroke, arm, strokes, chord_tol):
+    """Stroke vertices too far from the drawn path, and the row nearest each.
+
+    The rule of :func:`_vertex_misses`. Returns the missed vertices (as
+    indices into the concatenated strokes of two or more points) and, for
+    each, the row that starts the piece of the drawn path nearest to it.
+    Only the vertices of strokes with pen-down rows are looked at: the
+    others have no drawn path to miss by.
+    """
+    from scipy.spatial import cKDTree
+
+    from ..place._geometry import _point_segment_distance
+
+    none = np.zeros(0, int), np.zeros(0, int)
+    kd = np.flatnonzero(pen == 1)
+    sizes = np.array([len(x) for x in strokes], int)
+    lab = stroke[kd]
+    drawn = np.isin(np.arange(len(strokes)), lab)
+    lines = np.flatnonzero((sizes > 1) & drawn)
+    if kd.size < 2 or not lines.size:
+        return none
+    pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
+    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
+    pts = np.concatenate([arm.fk(q[kd]), xm])
+    order = np.argsort(np.concatenate([2 * np.arange(kd.size), 2 * np.flatnonzero(pair) + 1]),
+                       kind="stable")
+    pts = pts[order]
+    plab = np.concatenate([lab, lab[:-1][pair]])[order]
+    prow = np.concatenate([kd, kd[:-1][pair]])[order]
+    # pieces of the drawn path, without the zero-length ones of the dwells
+    same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
+    if not np.any(same):
+        return none
+    A, B = pts[:-1][same], pts[1:][same]
+    slab, srow = plab[:-1][same], prow[:-1][same]
+    big = 1e7
+    tree = cKDTree(np.column_stack([0.5 * (A + B), slab * big]))
+    V = np.concatenate([strokes[i] for i in lines])
+    # where each vertex sits among the vertices of all strokes of two or more points
+    vsid = np.repeat(np.flatnonzero(sizes > 1), sizes[sizes > 1])
+    vidx = np.flatnonzero(drawn[vsid])
+    vlab = vsid[vidx]
+    k = min(8, len(A))
+    _, idx = tree.query(np.column_stack([V, vlab * big]), k=k)
+    idx = idx.reshape(len(V), k)
+    d = _point_segment_distance(V[:, None, :], A[idx], B[idx])
+    d = np.where(slab[idx] == vlab[:, None], d, np.inf)
+    # (a stroke whose rows never move has no pieces: nothing to slow down)
+    bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
+    if bad.size == 0:
+        return none
+    return vidx[bad], srow[idx[bad, np.argmin(d[bad], axis=1)]]
 
 
 def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
@@ -612,43 +675,9 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     nearest rows elsewhere in time, so the time around the vertex itself is
     slowed down too.
     """
-    from scipy.spatial import cKDTree
-
-    from ..place._geometry import _point_segment_distance
-
-    kd = np.flatnonzero(pen == 1)
-    lines = [i for i, x in enumerate(strokes) if len(x) > 1]
-    if kd.size < 2 or not lines:
-        return np.zeros(0, int), np.zeros(0, int)
-    lab = stroke[kd]
-    pair = (np.diff(kd) == 1) & (lab[1:] == lab[:-1])
-    xm = arm.fk(0.5 * (q[kd[:-1]] + q[kd[1:]])[pair])
-    pts = np.concatenate([arm.fk(q[kd]), xm])
-    order = np.argsort(np.concatenate([2 * np.arange(kd.size), 2 * np.flatnonzero(pair) + 1]),
-                       kind="stable")
-    pts = pts[order]
-    plab = np.concatenate([lab, lab[:-1][pair]])[order]
-    prow = np.concatenate([kd, kd[:-1][pair]])[order]
-    # pieces of the drawn path, without the zero-length ones of the dwells
-    same = (plab[1:] == plab[:-1]) & np.any(pts[1:] != pts[:-1], axis=1)
-    if not np.any(same):
-        return np.zeros(0, int), np.zeros(0, int)
-    A, B = pts[:-1][same], pts[1:][same]
-    slab, srow = plab[:-1][same], prow[:-1][same]
-    big = 1e7
-    tree = cKDTree(np.column_stack([0.5 * (A + B), slab * big]))
-    V = np.concatenate([strokes[i] for i in lines])
-    vlab = np.repeat(lines, [len(strokes[i]) for i in lines])
-    k = min(8, len(A))
-    _, idx = tree.query(np.column_stack([V, vlab * big]), k=k)
-    idx = idx.reshape(len(V), k)
-    d = _point_segment_distance(V[:, None, :], A[idx], B[idx])
-    d = np.where(slab[idx] == vlab[:, None], d, np.inf)
-    # (a stroke whose rows never move has no pieces: nothing to slow down)
-    bad = np.flatnonzero((d.min(axis=1) > 0.99 * chord_tol) & np.isin(vlab, slab))
+    bad, r = _missed_vertices(q, pen, stroke, arm, strokes, chord_tol)
     if bad.size == 0:
         return bad, bad
-    r = srow[idx[bad, np.argmin(d[bad], axis=1)]]
     return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1)), bad
 
 
@@ -668,6 +697,86 @@ def _cut_missed(missed, vsid, vloc, drawn, cut_memo, forced, blend):
             have.add(j)
             done[k] = True
     return done
+
+
+#: Check again, each repair round, only the strokes whose rows changed
+#: (False: every stroke, every round; the same result, for tests).
+_INCREMENTAL = True
+
+
+class _PathChecks:
+    """The chord and vertex rules of the repair rounds, kept from round to round.
+
+    Both rules judge each stroke by its own pen-down rows alone (their
+    angles and spacing), and a repair round changes the rows of only the
+    strokes it slowed down: every stroke starts and ends at rest on a row,
+    so an untouched stroke's pen-down rows come out the same, only shifted
+    in row index. Each round checks again only the strokes whose pen-down
+    rows differ (bit for bit) from the previous round's, and keeps the
+    other strokes' verdicts, as row offsets from the stroke's first
+    pen-down row. The result is that of :func:`_chord_violations` and
+    :func:`_vertex_misses` over the whole stream.
+    """
+
+    def __init__(self, strokes, index, arm, chord_tol):
+        self.S, self.index, self.arm, self.chord_tol = strokes, index, arm, chord_tol
+        sizes = np.array([len(x) for x in strokes], int)
+        lines = np.flatnonzero(sizes > 1)
+        self.vsid = np.repeat(lines, sizes[lines])
+        self.prev = None
+
+    def __call__(self, q, pen, stroke):
+        """Rows to slow down for either rule, and the missed vertices."""
+        n = len(self.S)
+        kd = np.flatnonzero(pen == 1)
+        lab = stroke[kd]
+        if not _INCREMENTAL or np.any(lab < 0):
+            rows = _chord_violations(q, pen, stroke, self.arm, self.index, self.chord_tol)
+            vrows, missed = _vertex_misses(q, pen, stroke, self.arm, self.S, self.chord_tol)
+            self.prev = None
+            return rows, vrows, missed
+        o = np.argsort(lab, kind="stable")           # pen-down rows by stroke, then row
+        kd, lab = kd[o], lab[o]
+        cnt = np.bincount(lab, minlength=n)
+        start = np.concatenate([[0], np.cumsum(cnt)[:-1]])
+        first = kd[start.clip(0, max(kd.size - 1, 0))] if kd.size else np.zeros(n, int)
+        off = kd - first[lab]
+        bits = np.ascontiguousarray(q[kd]).view(np.uint64)
+        flag = np.zeros(kd.size, bool)              # off its stroke, itself or its midpoint
+        vbad = np.zeros(len(self.vsid), bool)
+        vrow = np.zeros(len(self.vsid), int)         # from the stroke's first pen-down row
+        changed = np.ones(n, bool)
+        p = self.prev
+        # (each stroke's pen-down rows in one run, as the planner lays them
+        # out; otherwise a stroke's path would depend on the rows between)
+        if p is not None and np.all(off == np.arange(kd.size) - start[lab]):
+            keep = np.flatnonzero(cnt[lab] == p["cnt"][lab])
+            old = p["start"][lab[keep]] + (keep - start[lab[keep]])
+            diff = (off[keep] != p["off"][old]) | np.any(bits[keep] != p["bits"][old], axis=1)
+            changed = (cnt != p["cnt"]) | (np.bincount(lab[keep], weights=diff, minlength=n) > 0)
+            same = keep[~changed[lab[keep]]]
+            flag[same] = p["flag"][p["start"][lab[same]] + (same - start[lab[same]])]
+            v = ~changed[self.vsid]
+            vbad[v], vrow[v] = p["vbad"][v], p["vrow"][v]
+        if np.any(changed):
+            sub = np.zeros_like(pen)
+            sub[kd[changed[lab]]] = 1
+            at = np.full(len(q), -1)
+            at[kd] = np.arange(kd.size)
+            flag[at[_off_stroke_rows(q, sub, stroke, self.arm, self.index, self.chord_tol)]] = True
+            vb, r = _missed_vertices(q, sub, stroke, self.arm, self.S, self.chord_tol)
+            vbad[vb] = True
+            vrow[vb] = r - first[self.vsid[vb]]
+        self.prev = dict(cnt=cnt, start=start, off=off, bits=bits, flag=flag, vbad=vbad,
+                         vrow=vrow)
+        bad = kd[flag]
+        rows = np.unique(np.concatenate([bad, bad + 1]))
+        missed = np.flatnonzero(vbad)
+        if missed.size == 0:
+            return rows, missed, missed
+        r = first[self.vsid[missed]] + vrow[missed]
+        vrows = np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
+        return rows, vrows, missed
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
@@ -868,6 +977,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
 
     n_dwell = max(1, int(np.ceil(arm.pen.lift_s / period - 1e-9)))
     index = _StrokeIndex(S, chord_tol) if n else None
+    checks = _PathChecks(S, index, arm, chord_tol) if n else None
     cut_memo = {}
     forced = {}                 # stroke -> vertices given a row after a miss
 
@@ -912,8 +1022,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
                                                 straight))
         missed = vrows = np.zeros(0, int)
         if index is not None:
-            rows = np.union1d(rows, _chord_violations(q, pen, stroke, arm, index, chord_tol))
-            vrows, missed = _vertex_misses(q, pen, stroke, arm, S, chord_tol)
+            crows, vrows, missed = checks(q, pen, stroke)
+            rows = np.union1d(rows, crows)
         if rows.size == 0 and missed.size == 0:
             break
         # A stroke vertex the rows miss, passed between two rows, gets a row
