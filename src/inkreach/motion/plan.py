@@ -981,24 +981,34 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     cut_memo = {}
     forced = {}                 # stroke -> vertices given a row after a miss
 
+    parts = {}                  # the pieces of one stroke, by its blend and forced cuts
+    travels = [travel(i) for i in range(n + 1)]
+
+    def stroke_pieces(i, on):
+        key = (i, on, frozenset(forced.get(i, ())))
+        if key not in parts:
+            out = [travels[i], (_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i,
+                                base_dwell[i:i + 1])]
+            if i in drawn:
+                P, Q = drawn[i]
+                if (i, on) not in cut_memo:
+                    cut_memo[i, on] = _corner_stops(P, Q, arm, margin, period, chord_tol,
+                                                    tip_speed, on)
+                cuts = np.union1d(cut_memo[i, on], sorted(key[2])).astype(int)
+                ends = np.concatenate([[0], cuts, [len(P) - 1]])
+                for a, b in zip(ends[:-1], ends[1:]):
+                    out.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i,
+                                base_stroke[i] + np.arange(a, b + 1)))
+            out.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1,
+                        base_dwell[i:i + 1] + 1))
+            parts[key] = out
+        return parts[key]
+
     def build(blend):
         pieces = []
         for i in range(n):
-            pieces.append(travel(i))
-            pieces.append((_DWELL, firsts[i:i + 1], sq_first[i:i + 1], 1, i,
-                           base_dwell[i:i + 1]))
-            if i in drawn:
-                P, Q = drawn[i]
-                if (i, blend[i]) not in cut_memo:
-                    cut_memo[i, blend[i]] = _corner_stops(P, Q, arm, margin, period, chord_tol,
-                                                          tip_speed, blend[i])
-                cuts = np.union1d(cut_memo[i, blend[i]], sorted(forced.get(i, ()))).astype(int)
-                for a, b in zip(np.r_[0, cuts], np.r_[cuts, len(P) - 1]):
-                    pieces.append((_STROKE, P[a:b + 1], Q[a:b + 1], 1, i,
-                                   base_stroke[i] + np.arange(a, b + 1)))
-            pieces.append((_DWELL, lasts[i:i + 1], sq_last[i:i + 1], 0, -1,
-                           base_dwell[i:i + 1] + 1))
-        pieces.append(travel(n))
+            pieces.extend(stroke_pieces(i, bool(blend[i])))
+        pieces.append(travels[n])
         path = _Path(pieces)
         at = np.full(n_keys, -1)            # where each vertex key sits in this path
         at[path.key] = np.arange(len(path.key))
