@@ -258,3 +258,20 @@ def test_a_vertex_the_rows_miss_gets_a_row_instead_of_a_slower_pass(monkeypatch)
     monkeypatch.setattr(plan_module, "_cut_missed", lambda missed, *a: np.zeros(len(missed), bool))
     slowed = plan_motion([close], arm, start=q0, end=q0)
     assert cut.duration <= slowed.duration
+
+
+def test_a_joint_direction_turning_back_gets_the_smaller_turning_share():
+    # cos(120 deg) = -1/2 (plane geometry) is where a turn counts as turning
+    # back: there the speed also changes fast around the vertex row.
+    from inkreach.motion.plan import _NORMAL_SHARE, _REVERSAL_SHARE, _normal_share
+
+    a = np.radians([90.0, 119.0, 121.0, 180.0])
+    qa = np.tile([1.0, 0.0], (4, 1))
+    qb = np.c_[np.cos(a), np.sin(a)]
+    assert _normal_share(qa, qb).tolist() == [_NORMAL_SHARE, _NORMAL_SHARE,
+                                               _REVERSAL_SHARE, _REVERSAL_SHARE]
+    assert _REVERSAL_SHARE < _NORMAL_SHARE
+    arm = load_arm("serial")
+    c = arm.fk(arm.ik(np.array([-60.0, 180.0])))
+    z = _zigzag(c, 9, 20.0, 3.0)
+    check_stream(plan_motion([z], arm), arm, strokes=[z], chord_tol=0.05, tip_speed=80.0)

@@ -15,6 +15,7 @@ _TRAVEL_JOINT, _TRAVEL_CART, _DWELL, _STROKE = 0, 1, 2, 3
 _CHECK_STEP = np.deg2rad(0.25)   # joint step when probing a pen-up joint-space move
 _LINE_STEP = 0.5                 # mm step when probing a pen-up straight line
 _NORMAL_SHARE = 0.6              # share of the acceleration budget spent turning corners
+_REVERSAL_SHARE = 0.5            # the same where the joint direction turns back by over 120 deg
 _PATH_SHARE = 0.6                # share of chord_tol the subdivided path may stray
 _CORNER_SHARE = 0.6              # share of chord_tol a corner may be cut between two rows
 _STOP_BELOW = 0.5                # put a row on a corner passed slower than this x the on-row speed
@@ -310,7 +311,8 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
     vc = _corner_speed(dp[:-1], dp[1:], at, period, chord_tol)
     jump = np.abs(qp[1:] - qp[:-1]).max(axis=1)
     with np.errstate(divide="ignore"):
-        vk = np.minimum(_NORMAL_SHARE * margin * amax * period / jump, tip_speed)
+        vk = np.minimum(_normal_share(qp[:-1], qp[1:]) * margin * amax * period / jump,
+                        tip_speed)
     c = np.einsum("ij,ij->i", dp[:-1], dp[1:]) / (L[:-1] * L[1:])
     sharp = c < np.cos(_CUT_ANGLE)
     cuts = (vc < _STOP_BELOW * vk) & sharp
@@ -342,6 +344,18 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
     return cuts[keep]
 
 
+def _normal_share(qa, qb):
+    """Share of the acceleration limit a change of joint direction qa -> qb may use.
+
+    Where the direction turns back (by more than 120 degrees, as at the
+    turns of a hatch) the speed also changes fast around the row on the
+    vertex, so less is left for the turn.
+    """
+    with np.errstate(invalid="ignore", divide="ignore"):
+        c = np.einsum("ij,ij->i", qa, qb) / (np.hypot(*qa.T) * np.hypot(*qb.T))
+    return np.where(c < -0.5, _REVERSAL_SHARE, _NORMAL_SHARE)
+
+
 def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     """Squared speed cap of every vertex.
 
@@ -354,13 +368,14 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     """
     K = len(path.Q)
     cap = np.zeros(K)
-    an = _NORMAL_SHARE * margin * _written_limits(arm, period)[1]
+    amax = margin * _written_limits(arm, period)[1]
 
     def kink(i_in, i_out):
         fi = np.minimum(f[i_in], f[i_out])
         vs = np.minimum(g["vseg"][i_in] * f[i_in], g["vseg"][i_out] * f[i_out])
         sbar = 0.5 * (g["length"][i_in] + g["length"][i_out])
         jump = np.abs(g["qp"][i_out] - g["qp"][i_in]).max(axis=1)
+        an = _normal_share(g["qp"][i_in], g["qp"][i_out]) * amax
         with np.errstate(divide="ignore", invalid="ignore"):
             vj = np.where(jump > 0, np.minimum(an * period / jump, np.sqrt(an * sbar / jump)),
                           np.inf)
@@ -798,7 +813,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     1e-4 degree can add to a finite difference), the tip-speed limit and
     discrete-time corner limits: a corner may not be cut by more than
     ``0.6 chord_tol`` between two rows, and a change of joint direction
-    must fit in one period within 0.6 of the acceleration limit. A sharp
+    must fit in one period within 0.6 of the acceleration limit (0.5 where
+    the direction turns back by more than 120 degrees). A sharp
     vertex, where the corner rule would force a near stop, gets a row
     on it instead and is passed at the speed the joint direction change
     allows, without stopping. With ``corner_blend`` (the default) the row
