@@ -323,8 +323,7 @@ def _corner_stops(P, Q, arm, margin, period, chord_tol, tip_speed, blend=True):
         # braking and speeding up again at the path acceleration a. Cut only
         # where the dip costs more.
         with np.errstate(divide="ignore", invalid="ignore"):
-            vf = np.minimum(np.minimum(vk, tip_speed),
-                            margin * vmax / np.maximum(qpm[:-1], qpm[1:]))
+            vf = np.minimum(vk, margin * vmax / np.maximum(qpm[:-1], qpm[1:]))
             a = np.minimum(acc[:-1], acc[1:])
             dip = (vf - np.clip(vc, 0.0, vf)) ** 2 / (a * vf)
         cuts &= ~(dip <= _CUT_COST * period)
@@ -362,7 +361,7 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     Zero at the ends of every piece except at joins (see :class:`_Path`),
     where a row lands exactly on the vertex: there the only rule is that the
     change of joint direction fits in one period within the share
-    ``_NORMAL_SHARE`` of the acceleration limit. Inside a piece the corner
+    :func:`_normal_share` of the acceleration limit. Inside a piece the corner
     rule of :func:`_corner_speed` applies too; where it asks for a stop
     (a negative speed) the cap is zero.
     """
@@ -619,8 +618,17 @@ def _chord_violations(q, pen, stroke, arm, index, chord_tol):
     The same rule as :func:`check_stream`, so the corner rule may be
     optimistic: rows it lets cut a corner too deeply are slowed down.
     """
-    bad = _off_stroke_rows(q, pen, stroke, arm, index, chord_tol)
-    return np.unique(np.concatenate([bad, bad + 1]))
+    return _with_next(_off_stroke_rows(q, pen, stroke, arm, index, chord_tol))
+
+
+def _with_next(rows):
+    """The rows and the row after each: a stray row or midpoint is slowed on both sides."""
+    return np.unique(np.concatenate([rows, rows + 1]))
+
+
+def _around(rows, n):
+    """The rows from one before to two after each (of ``n``): around a missed vertex."""
+    return np.unique(np.concatenate([rows - 1, rows, rows + 1, rows + 2]).clip(0, n - 1))
 
 
 def _missed_vertices(q, pen, stroke, arm, strokes, chord_tol):
@@ -691,9 +699,7 @@ def _vertex_misses(q, pen, stroke, arm, strokes, chord_tol):
     slowed down too.
     """
     bad, r = _missed_vertices(q, pen, stroke, arm, strokes, chord_tol)
-    if bad.size == 0:
-        return bad, bad
-    return np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1)), bad
+    return _around(r, len(q)), bad
 
 
 def _cut_missed(missed, vsid, vloc, drawn, cut_memo, forced, blend):
@@ -784,14 +790,9 @@ class _PathChecks:
             vrow[vb] = r - first[self.vsid[vb]]
         self.prev = dict(cnt=cnt, start=start, off=off, bits=bits, flag=flag, vbad=vbad,
                          vrow=vrow)
-        bad = kd[flag]
-        rows = np.unique(np.concatenate([bad, bad + 1]))
         missed = np.flatnonzero(vbad)
-        if missed.size == 0:
-            return rows, missed, missed
         r = first[self.vsid[missed]] + vrow[missed]
-        vrows = np.unique(np.concatenate([r - 1, r, r + 1, r + 2]).clip(0, len(q) - 1))
-        return rows, vrows, missed
+        return _with_next(kd[flag]), _around(r, len(q)), missed
 
 
 def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.02,
@@ -983,6 +984,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     vkey = np.concatenate([base_stroke[i] + vloc[i] for i in lines]) if lines else \
         np.zeros(0, int)
     vsid = np.repeat(lines, [len(S[i]) for i in lines]).astype(int)
+    vplace = vkey - base_stroke[vsid]      # ... and its place in its subdivided stroke
 
     def travel(i):
         key = base_travel[i] + np.arange(n_travel[i])
@@ -1055,8 +1057,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         # A stroke vertex the rows miss, passed between two rows, gets a row
         # of its own (a cut) rather than a slower pass: that costs at most
         # the wait for a row near it. One already cut is slowed down around.
-        cut_now = _cut_missed(missed, vsid, vkey - base_stroke[vsid] if vsid.size else vkey,
-                              drawn, cut_memo, forced, blend)
+        cut_now = _cut_missed(missed, vsid, vplace, drawn, cut_memo, forced, blend)
         missed = missed[~cut_now]
         if not cut_now.any():
             rows = np.union1d(rows, vrows)
