@@ -6,6 +6,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from inkreach.arms import default_arm, load_arm
+from inkreach.errors import InkreachError
 from inkreach.motion import check_stream, plan_motion
 from inkreach.motion.plan import _CORNER_SHARE, _cut_reach
 
@@ -275,3 +276,20 @@ def test_a_joint_direction_turning_back_gets_the_smaller_turning_share():
     c = arm.fk(arm.ik(np.array([-60.0, 180.0])))
     z = _zigzag(c, 9, 20.0, 3.0)
     check_stream(plan_motion([z], arm), arm, strokes=[z], chord_tol=0.05, tip_speed=80.0)
+
+
+def test_rounds_running_out_after_a_cut_is_given_refuse_the_plan(monkeypatch):
+    # One timing round only: the miss of the close corners is answered with a
+    # new cut, which is never timed, so the planner must refuse rather than
+    # hand the untimed rows on.
+    import inkreach.motion.plan as plan_module
+
+    monkeypatch.setattr(plan_module, "_BLEND_GAP", plan_module._CUT_GAP)
+    monkeypatch.setattr(plan_module, "_MAX_REPAIRS", 1 - plan_module._BLEND_REPAIRS)
+    arm = load_arm("default")
+    c = arm.fk(arm.home())
+    close = c + np.array([[-11.4, 0.0], [-5.7, 3.5], [-0.2, 0.07], [0.0, 0.0], [0.0, 0.32],
+                          [-1.6, 6.5], [3.4, 10.6]])
+    q0 = arm.ik(c)
+    with pytest.raises(InkreachError, match="cannot be timed within the joint limits"):
+        plan_motion([close], arm, start=q0, end=q0)

@@ -1041,6 +1041,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     fkey = np.ones(n_keys)
     path, g, at = build(blend)
     f = fkey[path.key[:-1]]
+    timed = False
     for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
         q, pen, stroke, tau, tv, straight = _time_path(
             path, g, arm, margin, period, chord_tol, f, n_dwell,
@@ -1053,6 +1054,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             crows, vrows, missed = checks(q, pen, stroke)
             rows = np.union1d(rows, crows)
         if rows.size == 0 and missed.size == 0:
+            timed = True
             break
         # A stroke vertex the rows miss, passed between two rows, gets a row
         # of its own (a cut) rather than a slower pass: that costs at most
@@ -1077,8 +1079,10 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             f = fkey[path.key[:-1]]
         elif not slowed:
             break
-    if rows.size:
-        raise InkreachError(f"the motion near t = {rows[0] * period:.2f} s cannot be timed "
+    if not timed:
+        # (a round that gave cuts leaves the vertex rows out of rows)
+        k = int(np.union1d(rows, vrows)[0])
+        raise InkreachError(f"the motion near t = {k * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
                          period=period, stroke=stroke, execution="hold",
