@@ -27,42 +27,6 @@ import numpy as np
 T = time.perf_counter
 
 
-def _chord_caps(path, gp, arm, tip_speed, period, chord_tol):
-    """Pen speed cap at each gridpoint: the tip limit and the sampled-chord cap.
-
-    Two rows one period apart on a pen path of curvature ``k`` span a chord
-    whose sagitta is about ``(v period)^2 k / 8`` (plane geometry); keeping
-    it within ``chord_tol`` caps the pen speed at ``sqrt(8 chord_tol / k) /
-    period``. The curvature of the pen path (forward kinematics of the
-    spline) is taken by central differences on eight points per grid
-    interval, the least over the two intervals next to each gridpoint kept.
-    """
-    sub = 8
-    fine = np.linspace(gp[0], gp[-1], sub * (len(gp) - 1) + 1)
-    h = 1e-4 * max(float(gp[-1]), 1e-9)
-    x0 = arm.fk(path(fine))
-    xp = arm.fk(path(np.clip(fine + h, gp[0], gp[-1])))
-    xm = arm.fk(path(np.clip(fine - h, gp[0], gp[-1])))
-    hp = np.clip(fine + h, gp[0], gp[-1]) - fine
-    hm = fine - np.clip(fine - h, gp[0], gp[-1])
-    d1 = (xp - xm) / np.maximum(hp + hm, 1e-300)[:, None]
-    d2 = 2 * ((xp - x0) / np.maximum(hp, 1e-300)[:, None]
-              - (x0 - xm) / np.maximum(hm, 1e-300)[:, None]) / np.maximum(hp + hm, 1e-300)[:, None]
-    # one-sided at the two ends: take the neighbour's curvature there
-    cross = np.abs(d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0])
-    speed = np.hypot(d1[:, 0], d1[:, 1])
-    with np.errstate(divide="ignore", invalid="ignore"):
-        k = cross / speed ** 3
-    k[0], k[-1] = k[1], k[-2]
-    with np.errstate(divide="ignore"):
-        v = np.minimum(tip_speed, np.sqrt(8 * chord_tol / k) / period)
-    v = v.reshape(-1)
-    # least over the two grid intervals next to each gridpoint
-    per = np.concatenate([v[:-1].reshape(len(gp) - 1, sub).min(axis=1), [v[-1]]])
-    left = np.concatenate([[per[0]], per[:-1]])
-    return np.minimum(per, left)
-
-
 def rounded_corners(stroke, tol, step=0.25, turn=np.deg2rad(5.0)):
     """Dense points along a polyline whose corners are rounded within ``tol``.
 
@@ -118,19 +82,28 @@ def rounded_corners(stroke, tol, step=0.25, turn=np.deg2rad(5.0)):
     return pts[keep]
 
 
-def spline_stray(Q, arm, stroke):
-    """Largest distance (mm) of the pen on the reference spline through ``Q`` from the stroke."""
-    import toppra
+def _joint_spline(Q):
+    """Knots (joint-space arc length) and toppra's cubic spline through ``Q``, repeats dropped.
 
-    from inkreach.place._geometry import _point_segment_distance
+    The spline is None when fewer than two distinct points are left.
+    """
+    import toppra
 
     Q = np.asarray(Q, float)
     Q = Q[np.concatenate([[True], np.hypot(*np.diff(Q, axis=0).T) > 1e-12])]
+    s = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(Q, axis=0).T))])
+    return s, (toppra.SplineInterpolator(s, Q) if len(Q) >= 2 else None)
+
+
+def spline_stray(Q, arm, stroke):
+    """Largest distance (mm) of the pen on the reference spline through ``Q`` from the stroke."""
+    from inkreach.place._geometry import _point_segment_distance
+
+    sq, path = _joint_spline(Q)
     s = np.asarray(stroke, float)
-    if len(Q) < 2 or len(s) < 2:
+    if path is None or len(s) < 2:
         return 0.0
-    sq = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(Q, axis=0).T))])
-    x = arm.fk(toppra.SplineInterpolator(sq, Q)(np.linspace(0.0, sq[-1], 4 * len(Q))))
+    x = arm.fk(path(np.linspace(0.0, sq[-1], 4 * len(sq))))
     A, B = s[:-1], s[1:]
     d = np.full(len(x), np.inf)
     for a in range(0, len(A), 256):        # in blocks, to bound the memory
@@ -139,13 +112,12 @@ def spline_stray(Q, arm, stroke):
     return float(d.max())
 
 
-def toppra_time(Q, arm, tip_speed, grid=None, chord_cap=None, knots=False):
+def toppra_time(Q, arm, tip_speed, grid=None, knots=False):
     """TOPP-RA duration of the joint path through ``Q`` (rest to rest), seconds.
 
-    With ``chord_cap = (period, chord_tol)`` the pen speed is also held under
-    the sampled-chord cap of :func:`_chord_caps` along the path. With
-    ``knots`` the grid is the spline's own knots (at most 4000 of them,
-    evenly thinned), which resolves short arcs a uniform grid would step over.
+    With ``knots`` the grid is the spline's own knots (at most 4000 of
+    them, evenly thinned), which resolves short arcs a uniform grid would
+    step over.
 
     References
     ----------
@@ -153,38 +125,30 @@ def toppra_time(Q, arm, tip_speed, grid=None, chord_cap=None, knots=False):
        parameterization based on reachability analysis", IEEE Trans.
        Robotics 34(3), 2018.
     """
-    import toppra
     import toppra.algorithm as algo
     import toppra.constraint as con
 
-    Q = np.asarray(Q, float)
-    seg = np.hypot(*np.diff(Q, axis=0).T)
-    keep = np.concatenate([[True], seg > 1e-12])
-    Q = Q[keep]
-    if len(Q) < 2:
+    s, path = _joint_spline(Q)
+    if path is None:
         return 0.0
-    s = np.concatenate([[0.0], np.cumsum(np.hypot(*np.diff(Q, axis=0).T))])
-    path = toppra.SplineInterpolator(s, Q)
     lim = arm.limits
     vmax, amax = float(lim.max_speed), float(lim.max_accel)
     # At least 500 grid points: on 100 points the spline through a short,
     # kinked joint path can come out 50x too slow (stroke 15 of the camera
     # outline on the default arm: 87 s on 100 points, 1.52 s on 500 to 5000).
-    n = grid or int(min(2000, max(500, 2 * len(Q))))
+    n = grid or int(min(2000, max(500, 2 * len(s))))
     gp = np.linspace(0.0, s[-1], n)
     if knots:
         gp = s if len(s) <= 4000 else np.interp(np.linspace(0, len(s) - 1, 4000),
                                                 np.arange(len(s)), s)
 
-    caps = None if chord_cap is None else _chord_caps(path, gp, arm, tip_speed, *chord_cap)
 
     def vlim(ss):
         q = path(ss)
         qs = path(ss, 1)
         J = arm.jacobian(q[None])[0]
         g = max(float(np.hypot(*(J @ qs))), 1e-12)
-        tip = tip_speed if caps is None else float(np.interp(ss, gp, caps))
-        b = np.minimum(vmax, tip * np.abs(qs) / g + 1e-12)
+        b = np.minimum(vmax, tip_speed * np.abs(qs) / g + 1e-12)
         return np.column_stack([-b, b])
 
     cs = [con.JointVelocityConstraintVarying(vlim),
