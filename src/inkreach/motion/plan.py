@@ -258,15 +258,20 @@ def _corner_speed(a, b, acc, period, chord_tol):
 def _cut_reach(a, b, chord_tol):
     """How far from a vertex the nearest row may lie when the rows straddle it.
 
-    Two rows at path distances ``e`` before and ``d`` after a vertex where
-    the path turns by ``th`` have their chord's midpoint at
-    ``min(e, d) sin(th) / 2`` from the two segments (plane geometry: the
-    midpoint ``(d u_b - e u_a) / 2`` lies ``d sin(th) / 2`` from the line
-    along ``u_a`` and ``e sin(th) / 2`` from the one along ``u_b``, each
-    foot on its segment when ``e <= d`` or ``d <= e`` respectively). So the
-    corner is cut by at most ``_CORNER_SHARE * chord_tol`` when the row
-    nearest the vertex lies within ``2 _CORNER_SHARE chord_tol / sin(th)``
-    of it: a chord blend of the corner inside the tolerance.
+    Two rows at path distances ``e`` before and ``d >= e`` after a vertex
+    (or the other way round) where the path turns by ``th`` draw the chord
+    from ``-e u_a`` to ``d u_b``. The vertex lies
+    ``e d sin(th) / |d u_b + e u_a|`` from that chord's line; over all
+    ``d >= e`` that is at most ``e sin(th)`` for ``th <= 90`` degrees and at
+    most ``e`` beyond (the largest of ``1 / |u_b + x u_a|`` over
+    ``0 < x <= 1`` is ``1 / sin(th)`` at ``x = -cos(th)``, where the foot
+    leaves the chord and the nearer row, ``e`` away, is the nearest point).
+    The chord's midpoint lies ``min(e, d) sin(th) / 2`` from the two
+    segments, half as far. So the vertex stays within
+    ``chord_tol`` of the drawn path, and the path within that of the
+    stroke, when the row nearest the vertex lies within
+    ``chord_tol / sin(min(th, 90 deg))`` of it (plane geometry):
+    a chord blend of the corner inside the tolerance.
 
     Parameters
     ----------
@@ -282,7 +287,9 @@ def _cut_reach(a, b, chord_tol):
     lb = np.hypot(b[:, 0], b[:, 1])
     with np.errstate(divide="ignore", invalid="ignore"):
         sn = np.abs(a[:, 0] * b[:, 1] - a[:, 1] * b[:, 0]) / (la * lb)
-        e = 2 * _CORNER_SHARE * chord_tol / sn
+        # beyond a right angle the bound is the distance to the nearer row
+        sn = np.where(np.einsum("ij,ij->i", a, b) < 0, 1.0, sn)
+        e = chord_tol / sn
     # Never further than a quarter of either segment, so the rows' feet stay
     # on the two segments next to the vertex.
     return np.minimum(np.where(sn > 1e-12, e, np.inf), 0.25 * np.minimum(la, lb))
@@ -403,21 +410,38 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
 def _join_windows(path, g, w, f, period, chord_tol):
     """Per piece ending at a join: how far in time a row may miss the vertex.
 
-    :func:`_cut_reach` in path distance, over the fastest the pen can move
-    near the vertex (its speed there plus a period's worth of
-    acceleration), with a fifth kept back for rounding.
+    The time the pen takes to cover :func:`_cut_reach` from the vertex,
+    starting at its speed ``v`` there and speeding up at most at the path
+    acceleration ``a``: the root of ``v t + a t^2 / 2 = R``, with a tenth of
+    the reach kept back for the rows' rounding and the bow of joint-space
+    motion.
     """
     win = np.zeros(len(path.kind))
     p = np.flatnonzero(path.join)
     if p.size == 0:
         return win
     L, R = path.last[p], path.first[p + 1]
-    reach = _cut_reach(g["dp"][L - 1], g["dp"][R], chord_tol)
+    reach = 0.9 * _cut_reach(g["dp"][L - 1], g["dp"][R], chord_tol)
     acc = np.maximum(g["acc"][L - 1] * f[L - 1] ** 2, g["acc"][R] * f[R] ** 2)
-    vfast = np.sqrt(w[L]) + np.where(np.isfinite(acc), acc, 0.0) * period
-    with np.errstate(divide="ignore", invalid="ignore"):
-        win[p] = np.where(vfast > 0, 0.8 * reach / vfast, np.inf)
+    win[p] = _time_to_cover(reach, np.sqrt(w[L]), np.where(np.isfinite(acc), acc, 0.0))
     return win
+
+
+def _time_to_cover(dist, v, acc):
+    """Time to cover ``dist`` from speed ``v`` at constant acceleration ``acc``.
+
+    The positive root of ``v t + acc t^2 / 2 = dist``, written as
+    ``2 dist / (v + sqrt(v^2 + 2 acc dist))`` so it holds at ``acc = 0``
+    (infinite where nothing moves).
+
+    Examples
+    --------
+    >>> float(_time_to_cover(1.0, 0.0, 2.0))   # from rest: sqrt(2 d / a)
+    1.0
+    """
+    with np.errstate(divide="ignore", invalid="ignore"):
+        root = v + np.sqrt(v * v + 2 * acc * dist)
+        return np.where(root > 0, 2 * dist / root, np.inf)
 
 
 def _row_times(path, dur, period, win):
