@@ -24,7 +24,7 @@ _HEADER = "t_s,theta1_deg,theta2_deg,pen,x_mm,y_mm"
 
 
 @pytest.fixture(scope="module")
-def saved(tmp_path_factory):
+def picture(tmp_path_factory):
     im = Image.new("L", (240, 240), 255)
     d = ImageDraw.Draw(im)
     d.rectangle([40, 40, 200, 200], outline=0, width=6)
@@ -32,14 +32,28 @@ def saved(tmp_path_factory):
     d.ellipse([90, 90, 150, 150], outline=0, width=6)
     pic = tmp_path_factory.mktemp("pic") / "pic.png"
     im.save(pic)
-    out = tmp_path_factory.mktemp("plan")
-    inkreach.plan(str(pic), style="centerline", fidelity=False).save(out)
+    return pic
+
+
+def _save_plan(pic, out, **options):
+    inkreach.plan(str(pic), style="centerline", fidelity=False, **options).save(out)
     meta = json.loads((out / "plan.json").read_text())
     # The tip-speed promise is tested on its own below (with the limit set
     # around the measured speed); the other tests leave it unrecorded.
     meta["options"]["tip_speed"] = None
     (out / "plan.json").write_text(json.dumps(meta))
     return out
+
+
+@pytest.fixture(scope="module")
+def saved(tmp_path_factory, picture):
+    return _save_plan(picture, tmp_path_factory.mktemp("plan"))
+
+
+@pytest.fixture(scope="module")
+def saved_plain(tmp_path_factory, picture):
+    """The same picture planned with plain rows on sharp vertices (no corner blend)."""
+    return _save_plan(picture, tmp_path_factory.mktemp("plain"), corner_blend=False)
 
 
 def _copy(saved, tmp_path):
@@ -639,13 +653,16 @@ def _segment_distance(p, poly):
     return np.hypot(pp[..., 0] - c[..., 0], pp[..., 1] - c[..., 1]).min(axis=1)
 
 
-def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved, tmp_path):
-    # chord_tol set between the rows' worst distance from their strokes and the
-    # joint-space midpoints' worst distance, both measured here with the
-    # planner's arm and the distance written out above, so only the midpoint
-    # rule can refuse the plan.
+def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved_plain, tmp_path):
+    # chord_tol set between the rows' worst distance from their strokes (and
+    # the stroke vertices' worst distance from the drawn path of rows and
+    # midpoints) and the joint-space midpoints' worst distance, all measured
+    # here with the planner's arm and the distance written out above, so
+    # only the midpoint rule can refuse the plan. Planned without the corner
+    # blend, whose rows near a sharp vertex put it further from the drawn
+    # path than any midpoint is from its stroke.
     from inkreach.arms import parse_arm
-    p = _copy(saved, tmp_path)
+    p = _copy(saved_plain, tmp_path)
     m = _meta(p)
     r = _rows(p)
     arm = parse_arm(m["arm"])
@@ -659,6 +676,10 @@ def test_a_midpoint_off_its_stroke_is_refused_on_its_own(saved, tmp_path):
         worst_row = max(worst_row, _segment_distance(arm.fk(q[k0:k1 + 1]), s).max())
         mid = arm.fk(0.5 * (q[k0:k1] + q[k0 + 1:k1 + 1]))
         worst_mid = max(worst_mid, _segment_distance(mid, s).max())
+        drawn = np.empty((2 * (k1 - k0) + 1, 2))
+        drawn[0::2], drawn[1::2] = arm.fk(q[k0:k1 + 1]), mid
+        drawn = drawn[np.r_[True, np.any(np.diff(drawn, axis=0) != 0, axis=1)]]   # dwells
+        worst_row = max(worst_row, _segment_distance(s, drawn).max())
     if worst_mid - worst_row < 4e-4:   # the printed-decimal slacks are ~1.5e-4 mm
         pytest.skip("the midpoints of this plan sit as close to the strokes as its rows")
     m["options"]["chord_tol"] = worst_row + 0.25 * (worst_mid - worst_row)

@@ -177,7 +177,7 @@ def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
                           [-1.6, 6.5], [3.4, 10.6]])
     # a twelve-sided polygon, whose corners the blend passes faster than
     # plain rows do, with no repair on either arm
-    strokes = [_polygon(c, 15.0, 12), close]
+    strokes = [_polygon(c, 10.0, 12), close]
     q0 = arm.ik(c)
     on = plan_motion(strokes, arm, start=q0, end=q0)
     off = plan_motion(strokes, arm, start=q0, end=q0, corner_blend=False)

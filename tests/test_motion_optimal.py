@@ -4,6 +4,8 @@ import dataclasses
 
 import numpy as np
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 from inkreach.arms import default_arm, load_arm
 from inkreach.errors import InkreachError
@@ -247,3 +249,34 @@ def test_a_corner_that_must_stop_gets_a_zero_speed_cap():
     assert _corner_speed(dp[:1], dp[1:], np.array([3000.0]), 0.02, 0.05)[0] < 0
     cap2 = _vertex_caps(path, g, arm, 1.0, 0.02, 0.05, np.ones(len(g["length"])))
     assert cap2[1] == 0.0
+
+
+@settings(max_examples=200, deadline=None)
+@given(qa=st.tuples(st.floats(-0.02, 0.02), st.floats(-0.02, 0.02)),
+       qb=st.tuples(st.floats(-0.02, 0.02), st.floats(-0.02, 0.02)),
+       acc=st.floats(0.0, 3000.0))
+def test_a_row_on_a_vertex_at_its_speed_uses_exactly_the_acceleration_limit(qa, qb, acc):
+    # Constant-acceleration kinematics (textbook): braking at acc into the
+    # vertex, the pen covers s = v T + acc T^2 / 2 in the last period, and the
+    # same speeding away. With the rows a period either side s along the
+    # joint-linear legs (joint directions qa, qb per mm), the second
+    # difference at the vertex row is s (qb - qa): at the speed given it
+    # reaches the joint acceleration limit exactly, and 1 % faster it breaks it.
+    from inkreach.motion.plan import _row_on_vertex_speed
+
+    qa, qb = np.array(qa), np.array(qb)
+    jump = np.abs(qb - qa).max()
+    amax, T = np.deg2rad(4000.0), 0.02
+    v = float(_row_on_vertex_speed(np.array([jump]), amax, acc, T)[0])
+    if jump == 0.0:
+        assert v == np.inf
+        return
+    assume(0 < v < 1e4)
+    for k, want in ((1.0, amax), (1.01, None)):
+        s = k * v * T + 0.5 * acc * T * T
+        q_prev, q_on, q_next = -s * qa, np.zeros(2), s * qb
+        d2 = np.abs(q_next - 2 * q_on + q_prev).max() / T ** 2
+        if want is not None:
+            assert d2 == pytest.approx(want, rel=1e-9)
+        else:
+            assert d2 > amax
