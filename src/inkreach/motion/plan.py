@@ -31,6 +31,8 @@ _CUT_COST = 0.4                  # what a cut costs on average, in periods (see 
 _ACC_SHARE = 0.1                 # share of a period's speed change counted in the corner rule
 _SLOWDOWN = 0.95
 _MAX_REPAIRS = 120
+_JOIN_STEP = (0.6, 0.9)          # bounds of a repair's factor on the speed at a join vertex
+_JOIN_FLOOR = 0.5                # below this the segments around are slowed too
 _TIP_STEP = 2.0                  # longest piece the timing sees on a stroke, mm
 _BLEND_REPAIRS = 12              # repair rounds a blended stroke gets before falling back
 
@@ -507,13 +509,16 @@ def _row_times(path, dur, period, win):
     return S, E
 
 
-def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True):
+def _time_path(path, g, arm, margin, period, chord_tol, f, n_dwell, blend=True, vf=None):
     """Time every piece, put it on the row clock, sample the rows.
 
     ``blend`` (a bool, or one per piece) says where a row need only land
-    near the vertex a piece ends at, rather than exactly on it.
+    near the vertex a piece ends at, rather than exactly on it; ``vf``, one
+    per vertex, scales the speed cap of each vertex (repairs at joins).
     """
     cap2 = _vertex_caps(path, g, arm, margin, period, chord_tol, f)
+    if vf is not None:
+        cap2 = cap2 * vf * vf
     vseg = g["vseg"] * f
     acc = g["acc"] * f * f
     with np.errstate(invalid="ignore"):
@@ -583,6 +588,43 @@ def _slow_down(f, tv, tau, rows, period, times=None):
         return False
     f[sel] *= _SLOWDOWN
     return True
+
+
+def _row_excess(q, rows, period, arm):
+    """Largest ratio of speed or acceleration to its limit in the differences around each row."""
+    vlim, alim = _written_limits(arm, period)
+    n = len(q)
+    v = np.zeros(n + 1)
+    v[1:n] = (np.abs(np.diff(q, axis=0)) / period / vlim).max(axis=1)
+    a = np.zeros(n + 2)
+    if n > 2:
+        a[2:n] = (np.abs(np.diff(q, n=2, axis=0)) / period ** 2 / alim).max(axis=1)
+    # the second difference centred on row k is a[k + 1]; rows k-1..k+1 touch it
+    return np.maximum.reduce([v[rows], v[rows + 1], a[rows], a[rows + 1], a[rows + 2]])
+
+
+def _row_join_keys(path, tv, tau, rows, period):
+    """The vertex key of the join each row is next to, or -1.
+
+    A row within one and a half periods of a join's vertex (in path time)
+    is put down to the pass of that vertex: the second difference at the
+    row on the vertex, or at the rows either side, carries the change of
+    joint direction there. Lowering that vertex's speed alone repairs it at
+    less cost than slowing every segment around it.
+    """
+    out = np.full(rows.size, -1)
+    p = np.flatnonzero(path.join)
+    if p.size == 0 or rows.size == 0:
+        return out
+    tj = tv[path.last[p]]
+    t = tau[rows]
+    i = np.clip(np.searchsorted(tj, t), 0, len(tj) - 1)
+    j = np.clip(i - 1, 0, len(tj) - 1)
+    with np.errstate(invalid="ignore"):
+        i = np.where(np.abs(tj[j] - t) < np.abs(tj[i] - t), j, i)
+        near = np.abs(tj[i] - t) <= 1.5 * period
+    out[near] = path.key[path.last[p[i[near]]]]
+    return out
 
 
 def _servo_frame_check(arm, period):
@@ -1095,16 +1137,17 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     blend = np.full(n, bool(corner_blend))
     tries = np.zeros(n, int)
     fkey = np.ones(n_keys)
+    jkey = np.ones(n_keys)              # speed factor of each vertex, lowered at joins
     path, g, at = build(blend)
     f = fkey[path.key[:-1]]
     timed = False
     for _ in range(_MAX_REPAIRS + (_BLEND_REPAIRS if corner_blend else 0)):
         q, pen, stroke, tau, tv, straight = _time_path(
             path, g, arm, margin, period, chord_tol, f, n_dwell,
-            np.r_[blend, False][path.stroke])
-        rows = _stream_violations(q, period, arm)
-        rows = np.union1d(rows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
-                                                straight))
+            np.r_[blend, False][path.stroke], jkey[path.key])
+        srows = _stream_violations(q, period, arm)
+        rows = np.union1d(srows, _tip_violations(q, pen, stroke, period, arm, tip_speed,
+                                                 straight))
         missed = vrows = np.zeros(0, int)
         if index is not None:
             crows, vrows, missed = checks(q, pen, stroke)
@@ -1112,6 +1155,18 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         if rows.size == 0 and missed.size == 0:
             timed = True
             break
+        every = rows
+        # A joint speed or acceleration broken next to a join: lower that
+        # vertex's speed first (down to a floor), not the segments around.
+        jk = _row_join_keys(path, tv, tau, srows, period)
+        lowered = np.unique(jk[jk >= 0])
+        lowered = lowered[jkey[lowered] > _JOIN_FLOOR]
+        if lowered.size:
+            # by the square of the worst excess next to it, within bounds
+            worst = np.ones(n_keys)
+            np.maximum.at(worst, jk[jk >= 0], _row_excess(q, srows[jk >= 0], period, arm))
+            jkey[lowered] *= np.clip(worst[lowered] ** -2.0, _JOIN_STEP[0], _JOIN_STEP[1])
+        rows = np.setdiff1d(rows, srows[np.isin(jk, lowered)])
         # A stroke vertex the rows miss, passed between two rows, gets a row
         # of its own (a cut) rather than a slower pass: that costs at most
         # the wait for a row near it. One already cut is slowed down around.
@@ -1119,8 +1174,8 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         missed = missed[~cut_now]
         if not cut_now.any():
             rows = np.union1d(rows, vrows)
-        slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]])
-        hit = np.union1d(stroke[rows], vsid[missed])
+        slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]]) or lowered.size > 0
+        hit = np.union1d(stroke[every], vsid[missed])
         hit = hit[hit >= 0]
         tries[hit] += 1
         drop = hit[blend[hit] & (tries[hit] >= _BLEND_REPAIRS)]
@@ -1129,6 +1184,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             fkey[path.key[:-1][inside]] = f[inside]
             for i in drop:
                 fkey[base_stroke[i]:base_stroke[i] + drawn_rows[i]] = 1.0
+                jkey[base_stroke[i]:base_stroke[i] + drawn_rows[i]] = 1.0
                 forced.pop(i, None)
             blend[drop] = False
             path, g, at = build(blend)
@@ -1137,7 +1193,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
             break
     if not timed:
         # (a round that gave cuts leaves the vertex rows out of rows)
-        k = int(np.union1d(rows, vrows)[0])
+        k = int(np.union1d(every, vrows)[0])
         raise InkreachError(f"the motion near t = {k * period:.2f} s cannot be timed "
                             "within the joint limits; lower tip_speed or margin")
     stream = JointStream(t=np.arange(len(q)) * period, q=q, pen=pen, xy=arm.fk(q),
