@@ -370,9 +370,11 @@ def _vertex_caps(path, g, arm, margin, period, chord_tol, f):
     """Squared speed cap of every vertex.
 
     Zero at the ends of every piece except at joins (see :class:`_Path`),
-    where a row lands exactly on the vertex: there the only rule is that the
+    where a row lands on or near the vertex: there the only rule is that the
     change of joint direction fits in one period within the share
-    :func:`_normal_share` of the acceleration limit. Inside a piece the corner
+    :func:`_normal_share` of the acceleration limit, or within the whole
+    limit braking in and speeding away at the full path acceleration
+    (:func:`_row_on_vertex_speed`), whichever allows more. Inside a piece the corner
     rule of :func:`_corner_speed` applies too; where it asks for a stop
     (a negative speed) the cap is zero.
     """
@@ -916,12 +918,15 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     the direction turns back by more than 120 degrees). A sharp
     vertex, where the corner rule would force a near stop, gets a row
     on it instead and is passed at the speed the joint direction change
-    allows, without stopping. With ``corner_blend`` (the default) the row
-    need only land near the vertex: the chord between the two rows around
-    it then cuts the corner by at most ``0.6 chord_tol`` (a chord blend
-    inside the tolerance, :func:`_cut_reach`), so the stroke's row clock is
-    stretched only as far as that needs, and only vertices whose slow-down
-    would cost more than about half a period are treated so; a stroke
+    allows (the higher of that estimate and the exact bound when braking
+    in and speeding away at the full path acceleration), without
+    stopping. With ``corner_blend`` (the default) the row need only land
+    near the vertex: near enough that the vertex stays within 0.9
+    ``chord_tol`` of the chord between the two rows around it (a chord
+    blend inside the tolerance, :func:`_cut_reach`), so the stroke's row
+    clock is stretched only as far as that needs, and only vertices whose
+    slow-down would cost more than the mean wait for such a row (about 0.4
+    period) are treated so; a stroke
     whose rows cannot be repaired within a few rounds is timed again
     without the blend, the other strokes keep it. Without it the row lands
     exactly on the vertex and the stroke's time between such vertices is
@@ -929,10 +934,12 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
     the rows are checked against the real ones: a stroke vertex that lies
     further than ``chord_tol`` from the drawn path (rows and joint-space
     midpoints) while passed between two rows is given a row of its own;
-    rows whose finite differences still break a limit (joint speed,
-    acceleration, or the tip speed from forward kinematics), that stray
-    too far, or next to a vertex already given a row and still missed,
-    are slowed down locally and re-timed, with the blend or without.
+    a joint speed or acceleration broken next to a vertex with a row on it
+    lowers that vertex's speed, down to half; rows whose finite
+    differences still break a limit (joint speed, acceleration, or the tip
+    speed from forward kinematics), that stray too far, or next to a
+    vertex already given a row and still missed, are slowed down locally
+    and re-timed, with the blend or without.
     The stream is executed by holding each row for one period (zero-order
     hold): the pen is commanded down on the row where a pen-up move arrives
     at rest, and up on the row after a stroke's last row, and in both cases
