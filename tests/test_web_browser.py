@@ -31,6 +31,20 @@ def browser():
         b.close()
 
 
+def _wait_until_loaded(page, selector, timeout=60_000):
+    """Wait until the image at ``selector`` has loaded.
+
+    Polled by Playwright's own assertion on the element's ``complete``
+    property, not by a JavaScript string evaluated in the page: the page's
+    Content-Security-Policy (script-src 'self') refuses string evaluation,
+    and ``wait_for_function`` with a string fails under it whenever the
+    first check comes too early and it has to poll in the page.
+    """
+    from playwright.sync_api import expect
+
+    expect(page.locator(selector)).to_have_js_property("complete", True, timeout=timeout)
+
+
 @pytest.fixture(scope="module")
 def server():
     proc, url = start_server()
@@ -75,7 +89,7 @@ def test_page_plans_a_picture_and_downloads_joints(browser, server, tmp_path):
         assert fh.readline().strip() == JOINTS_HEADER
     assert dl.value.suggested_filename.endswith("joints.csv")
 
-    page.wait_for_function("document.getElementById('simulated-png').complete")
+    _wait_until_loaded(page, "#simulated-png")
     os.makedirs(ARTIFACTS, exist_ok=True)
     page.screenshot(path=os.path.join(ARTIFACTS, "web.png"), full_page=True)
     assert not errors, errors

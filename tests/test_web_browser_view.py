@@ -5,7 +5,7 @@ import httpx
 import pytest
 
 from test_web_api import _picture, _png
-from test_web_browser import browser, server  # noqa: F401  (fixtures)
+from test_web_browser import _wait_until_loaded, browser, server  # noqa: F401  (fixtures)
 
 pytestmark = pytest.mark.browser
 
@@ -34,7 +34,7 @@ def test_page_shows_the_inked_drawing_first_and_toggles_to_the_order(browser, se
     page.set_input_files("#file", str(pic))
     page.click("#plan-button")
     page.wait_for_selector("#figures [data-stat=strokes][data-value]", timeout=120_000)
-    page.wait_for_function("document.getElementById('simulated-png').complete")
+    _wait_until_loaded(page, "#simulated-png")
     assert page.locator("#simulated-png").is_visible()
     assert page.locator("#preview").is_hidden()
     assert page.inner_text("#figures [data-stat=fidelity]").strip() == api["likeness"]
@@ -55,7 +55,7 @@ def test_page_plans_text_alone_from_its_text_field(browser, server):  # noqa: F8
     page.fill("#text", "Hello")
     page.click("#plan-button")
     page.wait_for_selector("#figures [data-stat=strokes][data-value]", timeout=120_000)
-    page.wait_for_function("document.getElementById('simulated-png').complete")
+    _wait_until_loaded(page, "#simulated-png")
     assert page.locator("#simulated-png").is_visible()
     strokes = int(page.get_attribute("#figures [data-stat=strokes]", "data-value"))
     # the Hershey letters of "Hello" are several strokes (H alone is three)
