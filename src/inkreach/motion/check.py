@@ -106,14 +106,25 @@ def _stream_violations(q, period, arm):
     vlim, alim = _written_limits(arm, period)
     if len(q) < 2:
         return np.zeros(0, int)
-    v = np.abs(np.diff(q, axis=0)).max(axis=1) / period
+    v, a = _step_rates(q, period)
     rows = [np.flatnonzero(v > vlim)]
     rows.append(rows[0] + 1)
-    if len(q) > 2:
-        a = np.abs(np.diff(q, n=2, axis=0)).max(axis=1) / period ** 2
-        ka = np.flatnonzero(a > alim)
-        rows += [ka, ka + 1, ka + 2]
+    ka = np.flatnonzero(a > alim)
+    rows += [ka, ka + 1, ka + 2]
     return np.unique(np.concatenate(rows))
+
+
+def _step_rates(q, period):
+    """Largest joint speed of each step and acceleration of each inner row, by finite differences.
+
+    Returns ``|q[k+1] - q[k]| / period`` (N - 1 values) and
+    ``|q[k+2] - 2 q[k+1] + q[k]| / period^2`` (N - 2, none for fewer than
+    three rows), each the larger over the two joints.
+    """
+    v = np.abs(np.diff(q, axis=0)).max(axis=1) / period
+    if len(q) < 3:
+        return v, np.zeros(0)
+    return v, np.abs(np.diff(q, n=2, axis=0)).max(axis=1) / period ** 2
 
 
 def _stroke_labels(pen):
