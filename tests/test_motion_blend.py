@@ -177,7 +177,7 @@ def test_blend_falls_back_for_the_failing_stroke_only(arm_name, monkeypatch):
                           [-1.6, 6.5], [3.4, 10.6]])
     # a twelve-sided polygon, which the blend draws with other rows than
     # plain rows do, with no repair on either arm
-    strokes = [_polygon(c, 15.0, 12), close]
+    strokes = [_polygon(c, 10.0, 12), close]
     q0 = arm.ik(c)
     on = plan_motion(strokes, arm, start=q0, end=q0)
     off = plan_motion(strokes, arm, start=q0, end=q0, corner_blend=False)
@@ -334,7 +334,7 @@ def test_a_broken_acceleration_at_a_sharp_vertex_is_repaired_by_lowering_its_spe
 
     arm = default_arm()
     c = arm.fk(arm.home())
-    strokes = [_zigzag(c, 25, 20.0, 4.0)]
+    strokes = [_zigzag(c, 25, 20.0, 3.0)]
     q0 = arm.ik(c)
     fast = plan_motion(strokes, arm, start=q0, end=q0)
     check_stream(fast, arm, strokes=strokes, chord_tol=0.05, tip_speed=80.0)

@@ -539,7 +539,7 @@ def test_repairs_checking_only_the_changed_strokes_plan_the_same_stream(fallback
     arm = load_arm("default")
     square = np.array([[-15.0, 140.0], [15.0, 140.0], [15.0, 170.0], [-15.0, 170.0],
                        [-15.0, 140.0]])
-    zigs = [np.array([[x, 180.0], [x + 1.0, 183.0], [x + 2.0, 180.0], [x + 3.0, 183.0]])
+    zigs = [np.array([[x, 180.0], [x + 2.0, 183.0], [x + 4.0, 180.0], [x + 6.0, 183.0]])
             for x in (-12.0, -4.0, 4.0)]
     vee = np.array([[20.0, 150.0], [21.0, 156.0], [22.0, 150.0]])
     strokes = [square, *zigs, vee]
