@@ -36,7 +36,8 @@ _MAX_REPAIRS = 120
 _JOIN_STEP = (0.6, 0.97)         # bounds of a repair's factor on the speed at a join vertex
 _JOIN_FLOOR = 0.5                # below this the segments around are slowed too
 _TIP_STEP = 2.0                  # longest piece the timing sees on a stroke, mm
-_BLEND_REPAIRS = 12              # repair rounds a blended stroke gets before falling back
+_BLEND_REPAIRS = 30              # repair rounds a blended stroke gets before falling back (finer
+                                 # repair factors need more: at 12 the emblem wave lost the blend)
 _REACH = 1.65                    # share of the cut reach a row at a blended vertex may lie
 _SHIFT = 0.85                    # share of chord_tol two rows around a vertex may be moved
 _AFTER = 0.9                     # ... until the vertex lies this share of it from their chord
