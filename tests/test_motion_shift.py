@@ -190,3 +190,35 @@ def test_slow_down_takes_the_smallest_factor_near_each_segment():
     assert f[1] == 0.9
     assert np.allclose(f[2:5], 0.8, rtol=0, atol=1e-15)
     assert np.allclose(f[6:9], 0.95, rtol=0, atol=1e-15)
+
+
+def test_a_row_between_two_stepped_pairs_takes_both_steps():
+    # Two right angles 0.3 mm apart, one row before the first, one between,
+    # one after the second, each 0.15 mm from its vertex: both chords miss
+    # by 0.106 mm and step 0.0425 mm; the row between takes the sum of the
+    # two steps (which the check then judges, as any row).
+    arm = default_arm()
+    V1 = arm.fk(arm.home())
+    V2 = V1 + np.array([0.0, 0.3])
+    P = np.stack([V1 - np.array([4.0, 0.0]), V1, V2, V2 + np.array([4.0, 0.0])])
+    path = _Path([(_STROKE, P, arm.ik(P), 1, 0)])
+    tv = np.array([0.0, 1.0, 1.3, 2.0])
+    xy = np.stack([V1 - np.array([0.15, 0.0]), V1 + np.array([0.0, 0.15]),
+                   V2 + np.array([0.15, 0.0])])
+    q = arm.ik(xy)
+    tau = np.array([0.9, 1.15, 1.4])
+    _shift_rows(q, tau, np.zeros(3, int), path, tv, np.ones(1, bool), np.zeros(3, bool),
+                arm, TOL)
+    moved = arm.fk(q) - xy
+
+    def step(v, a, b):
+        # towards v from its nearest point on chord ab, by the share rule
+        d = b - a
+        f = a + np.clip(np.dot(v - a, d) / np.dot(d, d), 0, 1) * d
+        e = np.hypot(*(v - f))
+        s = np.clip(e - plan_module._AFTER * TOL, 0, plan_module._SHIFT * TOL)
+        return s / e * (v - f)
+
+    c1, c2 = step(V1, xy[0], xy[1]), step(V2, xy[1], xy[2])
+    assert np.hypot(*c1) == pytest.approx(plan_module._SHIFT * TOL, abs=1e-12)
+    assert np.allclose(moved, [c1, c1 + c2, c2], rtol=0, atol=1e-8)
