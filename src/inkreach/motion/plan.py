@@ -3,7 +3,7 @@
 import numpy as np
 
 from ..errors import InkreachError
-from ..place._geometry import _ccw, _inside_convex
+from ..place._geometry import _ccw, _inside_convex, _point_segment_offset
 from .check import check_stream, _step_rates, _stream_violations, _written_limits
 from .stream import JointStream
 from .subdivide import _drop_repeats, _subdivide_many
@@ -653,43 +653,41 @@ def _shift_rows(q, tau, rp, path, tv, blend, fixed, arm, chord_tol):
     w, a, b = w[ok], a[ok], b[ok]
     if w.size == 0:
         return
-    V = path.P[w]
-    A, B = arm.fk(q[a]), arm.fk(q[b])
-    d = B - A
-    dd = np.einsum("ij,ij->i", d, d)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        u = np.clip(np.einsum("ij,ij->i", V - A, d) / dd, 0.0, 1.0)
-    u = np.where(dd > 0, u, 0.0)
-    off = V - (A + u[:, None] * d)
+    rows, at = np.unique(np.concatenate([a, b]), return_inverse=True)
+    X = arm.fk(q[rows])                  # each row's pen position, once
+    ia, ib = at[:len(a)], at[len(a):]
+    off = _point_segment_offset(path.P[w], X[ia], X[ib])
     e = np.hypot(off[:, 0], off[:, 1])
     step = np.clip(e - _AFTER * chord_tol, 0.0, _SHIFT * chord_tol)
     go = step > 0
     # one step per pair of rows: for the vertex they miss the most
     order = np.lexsort((-e, a))
     first = order[np.concatenate([[True], a[order][1:] != a[order][:-1]])]
-    go[np.setdiff1d(np.arange(len(a)), first)] = False
+    one = np.zeros(len(a), bool)
+    one[first] = True
+    go &= one
     if not np.any(go):
         return
-    a, b, off, e, step = a[go], b[go], off[go], e[go], step[go]
-    c = (step / e)[:, None] * off
-    move = np.zeros_like(q)
-    np.add.at(move, a, c)
-    np.add.at(move, b, c)
-    r = np.flatnonzero(np.any(move != 0, axis=1))
-    want = arm.fk(q[r]) + move[r]
+    c = (step[go] / e[go])[:, None] * off[go]
+    move = np.zeros_like(X)
+    np.add.at(move, ia[go], c)
+    np.add.at(move, ib[go], c)
+    k = np.flatnonzero(np.any(move != 0, axis=1))
+    r, want = rows[k], X[k] + move[k]
     for _ in range(2):                   # Newton steps: the first is exact to ~1e-5 mm
         J = arm.jacobian(q[r])
         q[r] += np.linalg.solve(J, (want - arm.fk(q[r]))[..., None])[..., 0]
 
 
-def _limit_factors(q, rows, over, period, arm):
+def _limit_factors(rows, over, excess):
     """A repair's factor on the limits near each offending row.
 
     ``_SLOWDOWN`` near a row that breaks a rule of the path (off the
-    stroke, tip speed); near a row in ``over`` (a joint speed or
-    acceleration broken) the excess ``r`` there to the power
-    ``-_SLOW_EXP``, within ``_SLOW_RANGE``. Joint speeds scale with the
-    factor, path accelerations and the acceleration of turning with its
+    stroke, tip speed); near a row in ``over`` (sorted: the rows where a
+    joint speed or acceleration is broken, ``excess`` the worst ratio to
+    its limit around each, :func:`_row_excess`) that excess ``r`` to the
+    power ``-_SLOW_EXP``, within ``_SLOW_RANGE``. Joint speeds scale with
+    the factor, path accelerations and the acceleration of turning with its
     square, so ``r^-1`` to ``r^-1/2`` would just mend a lone row; the power
     between (0.6, measured on the bench plans) lands most rows within the
     limit in one round without slowing them further than that needs, as a
@@ -698,7 +696,7 @@ def _limit_factors(q, rows, over, period, arm):
     fac = np.full(len(rows), _SLOWDOWN)
     hit = np.isin(rows, over)
     if np.any(hit):
-        r = np.maximum(_row_excess(q, rows[hit], period, arm), 1.0)
+        r = np.maximum(excess[np.searchsorted(over, rows[hit])], 1.0)
         fac[hit] = np.clip(0.999 * r ** -_SLOW_EXP, *_SLOW_RANGE)
     return fac
 
@@ -719,7 +717,7 @@ def _slow_down(f, tv, tau, rows, period, times=None, fac=None):
     if t.size == 0:
         return False
     lo = np.searchsorted(tv[1:], t - period, side="left")
-    hi = np.minimum(np.searchsorted(tv[:-1], t + period, side="right"), len(f))
+    hi = np.searchsorted(tv[:-1], t + period, side="right")
     cnt = np.maximum(hi - lo, 0)
     if not cnt.any():
         return False
@@ -1309,12 +1307,13 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         # A joint speed or acceleration broken next to a join: lower that
         # vertex's speed first (down to a floor), not the segments around.
         jk = _row_join_keys(path, tv, tau, srows, period)
+        excess = _row_excess(q, srows, period, arm)
         lowered = np.unique(jk[jk >= 0])
         lowered = lowered[jkey[lowered] > _JOIN_FLOOR]
         if lowered.size:
             # by the square of the worst excess next to it, within bounds
             worst = np.ones(n_keys)
-            np.maximum.at(worst, jk[jk >= 0], _row_excess(q, srows[jk >= 0], period, arm))
+            np.maximum.at(worst, jk[jk >= 0], excess[jk >= 0])
             jkey[lowered] *= np.clip(worst[lowered] ** -2.0, _JOIN_STEP[0], _JOIN_STEP[1])
         rows = np.setdiff1d(rows, srows[np.isin(jk, lowered)])
         # A stroke vertex the rows miss, passed between two rows, gets a row
@@ -1324,7 +1323,7 @@ def plan_motion(strokes, arm, *, start=None, end=None, chord_tol=0.05, period=0.
         missed = missed[~cut_now]
         if not cut_now.any():
             rows = np.union1d(rows, vrows)
-        fac = _limit_factors(q, rows, srows, period, arm)
+        fac = _limit_factors(rows, srows, excess)
         slowed = _slow_down(f, tv, tau, rows, period, tv[at[vkey[missed]]], fac) \
             or lowered.size > 0
         hit = np.union1d(stroke[every], vsid[missed])

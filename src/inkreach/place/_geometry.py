@@ -91,14 +91,19 @@ def _inside_convex(v, points, tol):
     return ok
 
 
-def _point_segment_distance(p, a, b):
-    """Distance from points ``p`` to segments ``a -> b``, all broadcasting (..., 2)."""
+def _point_segment_offset(p, a, b):
+    """Vector to points ``p`` from their nearest points on segments ``a -> b``, (..., 2)."""
     ab = b - a
     L2 = np.einsum("...i,...i->...", ab, ab)
     with np.errstate(invalid="ignore", divide="ignore"):
         u = np.where(L2 > 0, np.einsum("...i,...i->...", p - a, ab) / L2, 0.0)
     u = np.clip(u, 0.0, 1.0)
-    d = p - (a + u[..., None] * ab)
+    return p - (a + u[..., None] * ab)
+
+
+def _point_segment_distance(p, a, b):
+    """Distance from points ``p`` to segments ``a -> b``, all broadcasting (..., 2)."""
+    d = _point_segment_offset(p, a, b)
     return np.hypot(d[..., 0], d[..., 1])
 
 
